@@ -1,0 +1,407 @@
+"""The largest stable step of a spectrum, and every stable window, vectorised.
+
+h_max(lambda) = sup{h >= 0 : t lambda in S for all 0 < t <= h} = r(arg lambda) / |lambda|,
+where r(phi) is the first exit along direction phi. For a spectrum the limit is the minimum
+over its non-zero eigenvalues; the stable windows are the intersection over eigenvalues of
+their stable sets {h : h lambda in S}.
+
+Exactness: along each distinct direction the crossings are computed as polynomial roots
+(analysis.rays). For large spectra a table of the exact window structure at N directions is
+built once per scheme; an eigenvalue between two table directions with the same structure gets
+each window end by Newton's method on pi(e^{i theta}, t e^{i phi}) = 0 started from the
+interpolated table values (quadratic convergence from ~1e-7), and any eigenvalue in a cell
+where the structure changes, or where Newton does not confirm, gets the exact per-direction
+computation.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from functools import lru_cache
+
+import numpy as np
+
+from ..errors import InputError
+from ..schemes.base import Scheme
+from ..schemes.stability import StabilityPolynomial
+from .rays import RayWindows, ray_windows
+from .roots import root_condition
+
+EXACT_DIRECTION_LIMIT = 256   # at most this many distinct directions: exact for each
+TABLE_SIZE = 2048             # directions in the table over [0, 2 pi) (or [0, pi] if real)
+NEWTON_ITERATIONS = 3
+
+
+@dataclass(frozen=True)
+class StepLimit:
+    """Step limit of a spectrum for one scheme."""
+
+    h_max: float | None                 # None when unbounded
+    unbounded: bool
+    binding_eigenvalue: complex | None
+    binding_index: int | None
+    windows: tuple                      # ((lo, hi or None), ...) in h
+    per_eigenvalue: np.ndarray          # h_max of each eigenvalue (inf unbounded, nan for 0)
+    evaluations_per_step: int
+    h_max_per_evaluation: float | None
+    zero_eigenvalues: int
+    growing_eigenvalues: int
+    zero_stable: bool
+    count: int
+    exact_directions: int               # eigenvalue directions solved exactly (not by table)
+    messages: tuple = field(default_factory=tuple)
+    safety: float | None = None
+
+    @property
+    def h_safe(self) -> float | None:
+        if self.safety is None or self.h_max is None:
+            return None
+        return self.h_max * self.safety
+
+
+# --- per-direction structure ------------------------------------------------------------------
+def _theta_at(pi: StabilityPolynomial, d: complex, t: float) -> float:
+    roots = pi.roots_at(t * d)
+    if roots.size == 0:
+        return 0.0
+    i = int(np.argmin(np.abs(np.abs(roots) - 1)))
+    return float(np.angle(roots[i]))
+
+
+@dataclass(frozen=True)
+class _Structure:
+    """Window pattern along one direction: ends (finite, >0) with their root angles."""
+
+    windows: tuple
+    ends: np.ndarray       # all finite positive window ends, in order
+    thetas: np.ndarray     # angle of the unit-circle root at each end
+    pattern: tuple         # (starts_at_zero, n_windows, last_unbounded)
+
+
+def _structure(pi: StabilityPolynomial, phi: float) -> _Structure:
+    d = complex(math.cos(phi), math.sin(phi))
+    rw = ray_windows(pi, d)
+    ends = []
+    for lo, hi in rw.windows:
+        if lo > 0:
+            ends.append(lo)
+        if math.isfinite(hi):
+            ends.append(hi)
+    ends = np.array(ends)
+    thetas = np.array([_theta_at(pi, d, t) for t in ends])
+    w = rw.windows
+    pattern = (bool(w) and w[0][0] == 0.0, len(w), bool(w) and math.isinf(w[-1][1]), rw.degenerate)
+    return _Structure(windows=w, ends=ends, thetas=thetas, pattern=pattern)
+
+
+class _Table:
+    """Exact window structures at table directions, for interpolation."""
+
+    def __init__(self, pi: StabilityPolynomial, n: int = TABLE_SIZE):
+        self.pi = pi
+        self.real = pi.is_real
+        if self.real:
+            self.phi = np.linspace(0.0, np.pi, n // 2 + 1)
+        else:
+            self.phi = np.linspace(-np.pi, np.pi, n + 1)
+        self.structs = [_structure(pi, p) for p in self.phi]
+        if not self.real:
+            self.structs[-1] = self.structs[0]
+        n_nodes = len(self.phi)
+        self.smooth = np.zeros(n_nodes - 1, dtype=bool)
+        for i in range(n_nodes - 1):
+            a, b = self.structs[i], self.structs[i + 1]
+            if a.pattern != b.pattern or a.ends.size != b.ends.size or a.pattern[3]:
+                continue
+            if a.ends.size:
+                rel = np.abs(a.ends - b.ends) / np.maximum(a.ends, b.ends)
+                dth = np.abs(np.angle(np.exp(1j * (a.thetas - b.thetas))))
+                if np.any(rel > 0.05) or np.any(dth > 0.2):
+                    continue
+            self.smooth[i] = True
+        width = max(s.ends.size for s in self.structs)
+        self.width = width
+        self.ends = np.full((n_nodes, max(width, 1)), np.nan)
+        self.thetas = np.full((n_nodes, max(width, 1)), np.nan)
+        for i, s in enumerate(self.structs):
+            self.ends[i, : s.ends.size] = s.ends
+            self.thetas[i, : s.ends.size] = s.thetas
+
+
+@lru_cache(maxsize=16)
+def _table_for(key) -> _Table:
+    pi = _PI_REGISTRY[key]
+    return _Table(pi)
+
+
+_PI_REGISTRY: dict = {}
+
+
+def _pi_key(pi: StabilityPolynomial):
+    key = tuple(tuple(str(c) for c in row) for row in pi.exact)
+    _PI_REGISTRY[key] = pi
+    return key
+
+
+def _newton_refine(pi: StabilityPolynomial, d: np.ndarray, t: np.ndarray, th: np.ndarray):
+    """Return (t, theta, ok) after Newton on pi(e^{i theta}, t d) = 0, vectorised."""
+    for _ in range(NEWTON_ITERATIONS):
+        w = np.exp(1j * th)
+        f, fw, fz = pi.evaluate(w, t * d)
+        a = fz * d           # dF/dt
+        b = fw * 1j * w      # dF/dtheta
+        det = a.real * b.imag - b.real * a.imag
+        with np.errstate(divide="ignore", invalid="ignore"):
+            dt = (-f.real * b.imag + b.real * f.imag) / det
+            dth = (-a.real * f.imag + a.imag * f.real) / det
+        t = t + dt
+        th = th + dth
+    w = np.exp(1j * th)
+    f, fw, fz = pi.evaluate(w, t * d)
+    P = np.abs(pi.numeric)
+    scale = np.zeros_like(t)
+    for j in range(P.shape[1]):
+        scale = scale + P[:, j].sum() * np.abs(t) ** j
+    ok = np.isfinite(t) & (np.abs(f) <= 1e-10 * np.maximum(scale, 1e-300)) & (t > 0)
+    return t, th, ok
+
+
+# --- main entry -------------------------------------------------------------------------------
+def _direction_windows_exact(pi, phis):
+    """Return list of window tuples (in radius units) for each direction in phis."""
+    out = {}
+    for p in np.unique(phis):
+        out[float(p)] = _structure(pi, float(p)).windows
+    return out
+
+
+def step_limit(scheme: Scheme, eigenvalues, safety: float | None = None,
+               table: bool | None = None) -> StepLimit:
+    """Return the StepLimit of a spectrum for a scheme.
+
+    Parameters
+    ----------
+    scheme : Scheme
+    eigenvalues : array_like of complex, shape (n,)
+    safety : float, optional
+        A factor in (0, 1] shown beside the limit (h_safe = safety * h_max); never applied
+        silently.
+    table : bool, optional
+        Force (True) or forbid (False) the interpolation table; default by size.
+    """
+    lam = np.asarray(eigenvalues, dtype=complex).ravel()
+    if lam.size == 0:
+        raise InputError("eigenvalues", "no eigenvalues given")
+    if not np.all(np.isfinite(lam)):
+        bad = int(np.nonzero(~np.isfinite(lam))[0][0])
+        raise InputError("eigenvalues", f"entry {bad} is not finite (NaN or Inf)")
+    if safety is not None and not (0 < safety <= 1):
+        raise InputError("safety", f"must lie in (0, 1], got {safety}")
+    pi = scheme.pi
+    rc = root_condition(scheme)
+    messages = []
+    zero = lam == 0
+    n_zero = int(zero.sum())
+    if n_zero:
+        messages.append(f"{n_zero} zero eigenvalue(s): they only need the root condition "
+                        f"({'satisfied' if rc.zero_stable else 'NOT satisfied'})")
+    growing = int(np.sum(lam.real > 0))
+    if growing:
+        messages.append(f"{growing} eigenvalue(s) with Re(lambda) > 0: the exact solution grows; "
+                        "a stable window there is stability of the scheme, not accuracy")
+    nz = ~zero
+    lam_nz = lam[nz]
+    radius = np.abs(lam_nz)
+    phi = np.angle(lam_nz)
+    if pi.is_real:
+        phi = np.abs(phi)
+    # per-eigenvalue window ends in units of t = h |lambda|
+    exact_count = 0
+    if lam_nz.size == 0:
+        windows_t = []
+    else:
+        uniq = None
+        if table is not True:
+            uniq = np.unique(phi) if lam_nz.size <= 4 * EXACT_DIRECTION_LIMIT else None
+            if uniq is None:
+                # cheap check for few distinct directions (e.g. a purely real spectrum)
+                first = phi[0]
+                if np.all(phi == first):
+                    uniq = np.array([first])
+        if table is False or (uniq is not None and uniq.size <= EXACT_DIRECTION_LIMIT):
+            if uniq is None:
+                uniq = np.unique(phi)
+            wins = _direction_windows_exact(pi, uniq)
+            exact_count = len(wins)
+            idx = np.searchsorted(uniq, phi)
+            windows_t = ("by-direction", uniq, [wins[float(u)] for u in uniq], idx)
+        else:
+            windows_t, exact_count = _table_windows(pi, phi)
+    per, windows_h = _combine(windows_t, radius, lam_nz.size)
+    per_full = np.full(lam.size, np.nan)
+    per_full[nz] = per
+    if not rc.zero_stable:
+        messages.append("the scheme fails the root condition: no step is stable near h = 0 "
+                        f"(h_max = 0); {rc.verdict}")
+        h = 0.0
+    elif lam_nz.size == 0:
+        h = math.inf
+    else:
+        h = float(np.min(per)) if per.size else math.inf
+    binding = None
+    bidx = None
+    if lam_nz.size and math.isfinite(h) and rc.zero_stable:
+        j = int(np.argmin(per))
+        bidx = int(np.nonzero(nz)[0][j])
+        binding = complex(lam[bidx])
+    unbounded = math.isinf(h)
+    if unbounded:
+        messages.append("every positive step is stable for this spectrum (unbounded)")
+    elif h == 0.0 and rc.zero_stable:
+        messages.append("no positive step is stable for the binding eigenvalue (h_max = 0)")
+    evals = scheme.evaluations_per_step
+    per_eval = None if unbounded else h / evals
+    if not rc.zero_stable:
+        # windows away from 0 may exist but never start at 0
+        windows_h = tuple(w for w in windows_h if w[0] > 0)
+    return StepLimit(
+        h_max=None if unbounded else h, unbounded=unbounded, binding_eigenvalue=binding,
+        binding_index=bidx, windows=windows_h, per_eigenvalue=per_full,
+        evaluations_per_step=evals, h_max_per_evaluation=per_eval, zero_eigenvalues=n_zero,
+        growing_eigenvalues=growing, zero_stable=rc.zero_stable, count=int(lam.size),
+        exact_directions=exact_count, messages=tuple(messages), safety=safety)
+
+
+def _table_windows(pi: StabilityPolynomial, phi: np.ndarray):
+    """Return ("by-eigenvalue", first_exit_t, extra_windows, ...) using the table."""
+    tab = _table_for(_pi_key(pi))
+    nodes = tab.phi
+    cell = np.clip(np.searchsorted(nodes, phi, side="right") - 1, 0, len(nodes) - 2)
+    smooth = tab.smooth[cell]
+    n = phi.size
+    # window ends per eigenvalue, in t units, with the node pattern
+    ends = np.full((n, max(tab.width, 1)), np.nan)
+    ok_all = smooth.copy()
+    if tab.width:
+        frac = (phi - nodes[cell]) / (nodes[cell + 1] - nodes[cell])
+        d = np.exp(1j * phi)
+        for e in range(tab.width):
+            t0 = tab.ends[cell, e] * (1 - frac) + tab.ends[cell + 1, e] * frac
+            th_a = tab.thetas[cell, e]
+            th_b = tab.thetas[cell + 1, e]
+            dth = np.angle(np.exp(1j * (th_b - th_a)))
+            th0 = th_a + frac * dth
+            have = smooth & np.isfinite(t0)
+            if not np.any(have):
+                continue
+            t, th, ok = _newton_refine(pi, d[have], t0[have], th0[have])
+            good = ok & (np.abs(t - t0[have]) <= 0.05 * t0[have])
+            col = np.full(have.sum(), np.nan)
+            col[good] = t[good]
+            ends[have, e] = col
+            bad = np.zeros(n, dtype=bool)
+            bad[np.nonzero(have)[0][~good]] = True
+            ok_all &= ~bad
+    # eigenvalues needing the exact route
+    need = ~ok_all
+    exact = {}
+    if np.any(need):
+        for p in np.unique(phi[need]):
+            exact[float(p)] = _structure(pi, float(p)).windows
+    return ("by-eigenvalue", tab, cell, ends, need, exact, phi), len(exact)
+
+
+def _windows_of(pattern_windows):
+    return pattern_windows
+
+
+def _combine(windows_t, radius: np.ndarray, n: int):
+    """Return (per-eigenvalue h_max, spectrum windows in h)."""
+    kind = windows_t[0] if windows_t else None
+    if kind is None:
+        return np.array([]), ((0.0, None),)
+    if kind == "by-direction":
+        _, uniq, wins, idx = windows_t
+        first = np.array([w[0][1] if (w and w[0][0] == 0.0) else 0.0 for w in wins])
+        per = first[idx] / radius
+        groups = [(wins[g], radius[idx == g]) for g in range(len(uniq))]
+    else:
+        _, tab, cell, ends, need, exact, phi = windows_t
+        per = np.empty(n)
+        groups = []
+        # smooth ones: reconstruct windows from the node pattern and refined ends
+        pat_first = np.array([s.pattern[0] for s in tab.structs])[cell]
+        pat_last_inf = np.array([s.pattern[2] for s in tab.structs])[cell]
+        n_win = np.array([s.pattern[1] for s in tab.structs])[cell]
+        sm = ~need
+        # first window end
+        first_t = np.where(pat_first & (n_win > 0),
+                           np.where((n_win == 1) & pat_last_inf, np.inf, ends[:, 0]), 0.0)
+        per[sm] = first_t[sm] / radius[sm]
+        for p, w in exact.items():
+            sel = need & (phi == p)
+            f = w[0][1] if (w and w[0][0] == 0.0) else 0.0
+            per[sel] = f / radius[sel]
+            groups.append((w, radius[sel]))
+        # group smooth eigenvalues by cell pattern for the window intersection
+        for c in np.unique(cell[sm]):
+            sel = sm & (cell == c)
+            s = tab.structs[c]
+            groups.append((("cell", s, ends[sel]), radius[sel]))
+    return per, _intersect(groups)
+
+
+def _intersect(groups) -> tuple:
+    """Return the intersection over all eigenvalues of their stable h-sets."""
+    los, his = [], []
+    total = 0
+    for wins, r in groups:
+        if r.size == 0:
+            continue
+        total += r.size
+        if isinstance(wins, tuple) and len(wins) == 3 and wins[0] == "cell":
+            _, s, ends = wins
+            # rebuild each eigenvalue's windows from pattern and its refined ends
+            k = 0
+            for lo, hi in s.windows:
+                if lo > 0:
+                    lo_v = ends[:, k]
+                    k += 1
+                else:
+                    lo_v = np.zeros(r.size)
+                if math.isfinite(hi):
+                    hi_v = ends[:, k]
+                    k += 1
+                else:
+                    hi_v = np.full(r.size, np.inf)
+                los.append(lo_v / r)
+                his.append(hi_v / r)
+        else:
+            for lo, hi in wins:
+                los.append(np.full(r.size, lo) / r)
+                his.append(np.full(r.size, hi) / r)
+    if total == 0:
+        return ((0.0, None),)
+    if not los:
+        return ()
+    lo = np.concatenate(los)
+    hi = np.concatenate(his)
+    # sweep: h is stable when the number of eigenvalues covering it equals total
+    ev_pos = np.concatenate([lo, hi])
+    ev_val = np.concatenate([np.ones(lo.size, dtype=np.int64), -np.ones(hi.size, dtype=np.int64)])
+    order = np.lexsort((-ev_val, ev_pos))  # at equal h, open before close (closed windows)
+    pos = ev_pos[order]
+    cnt = np.cumsum(ev_val[order])
+    out = []
+    start = None
+    for i in np.nonzero((cnt == total) | (np.concatenate([[0], cnt[:-1]]) == total))[0]:
+        if cnt[i] == total and start is None:
+            start = pos[i]
+        elif cnt[i] != total and start is not None:
+            out.append((float(start), float(pos[i])))
+            start = None
+    if start is not None:
+        out.append((float(start), None))
+    # drop degenerate single points
+    out = [(a, b) for a, b in out if b is None or b > a]
+    return tuple((a, (None if (b is None or math.isinf(b)) else b)) for a, b in out)

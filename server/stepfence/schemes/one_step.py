@@ -1,0 +1,133 @@
+"""One-step schemes given by their stability function R(z) = P(z)/Q(z).
+
+pi(zeta, z) = Q(z) zeta - P(z) (Hairer & Wanner, Solving ODEs II, 2nd ed., section IV.2).
+Runge-Kutta tableaux reach here through ButcherTableau.stability_function(); the
+Runge-Kutta-Chebyshev polynomials are built from their closed forms.
+"""
+from __future__ import annotations
+
+from functools import lru_cache
+
+import sympy as sp
+
+from .. import limits
+from ..errors import InputError
+from .base import Scheme
+from .stability import StabilityPolynomial, ZETA, Z
+
+# Verwer, Hundsdorfer & Sommeijer, Numer. Math. 57 (1990), and Sommeijer, Shampine & Verwer,
+# J. Comput. Appl. Math. 88 (1998): damping eps = 2/13 for the second-order family; 0.05 is
+# common practice for the first-order damped Chebyshev polynomial (no single source).
+RKC1_DEFAULT_DAMPING = sp.Rational(1, 20)
+RKC2_DEFAULT_DAMPING = sp.Rational(2, 13)
+
+
+def _coeffs(expr):
+    poly = sp.Poly(sp.expand(expr), Z)
+    return list(reversed(poly.all_coeffs()))
+
+
+def from_stability_function(P, Q=1, name="custom", label="custom stability function R(z)",
+                            family="stability function", stages=None, explicit=None,
+                            kind="stability-function", tableau=None, evaluations=None,
+                            source="", details=None) -> Scheme:
+    """Return the one-step Scheme with R(z) = P(z)/Q(z) (sympy expressions in Z)."""
+    P = sp.expand(sp.sympify(P))
+    Q = sp.expand(sp.sympify(Q))
+    if Q == 0:
+        raise InputError("stability", "the denominator Q(z) is identically zero")
+    R = sp.cancel(P / Q)
+    P, Q = sp.fraction(R)
+    P, Q = sp.expand(P), sp.expand(Q)
+    q0 = Q.subs(Z, 0)
+    if q0 == 0:
+        raise InputError("stability", "R(z) has a pole at z = 0; a consistent scheme has R(0) = 1")
+    P, Q = sp.expand(P / q0), sp.expand(Q / q0)
+    degP = sp.degree(P, Z) if P != 0 else 0
+    degQ = sp.degree(Q, Z)
+    if max(degP, degQ) > limits.MAX_POLY_DEGREE and kind != "rkc":
+        raise InputError("stability", f"degree {max(degP, degQ)} exceeds {limits.MAX_POLY_DEGREE}")
+    pi = StabilityPolynomial.from_expr(Q * ZETA - P)
+    if explicit is None:
+        explicit = degQ == 0
+    if stages is None:
+        stages = max(degP, degQ, 1)
+    if evaluations is None:
+        evaluations = stages
+    return Scheme(name=name, label=label, kind="runge-kutta" if tableau is not None else "stability-function",
+                  pi=pi, steps=1, stages=int(stages), explicit=bool(explicit),
+                  evaluations_per_step=int(evaluations), family=family, tableau=tableau,
+                  stability_function=(P, Q), source=source, details=dict(details or {}))
+
+
+def from_tableau(tableau, name="custom", label=None, family=None, source="") -> Scheme:
+    """Return the Runge-Kutta Scheme of a ButcherTableau."""
+    P, Q = tableau.stability_function()
+    return from_stability_function(
+        P, Q, name=name, label=label or f"Runge-Kutta ({tableau.stages} stages)",
+        family=family or ("explicit RK" if tableau.explicit else "implicit RK"),
+        stages=tableau.stages, explicit=tableau.explicit, tableau=tableau,
+        evaluations=tableau.evaluations_per_step, source=source,
+        details={"fsal": bool(getattr(tableau, "fsal", False))})
+
+
+def _chebyshev_T(s):
+    x = sp.Symbol("x")
+    return sp.chebyshevt_poly(s, x), x
+
+
+def _check_stages(s):
+    if not isinstance(s, int) or s < 1 or s > limits.MAX_RKC_STAGES:
+        raise InputError("stages", f"Runge-Kutta-Chebyshev stage count must be 1..{limits.MAX_RKC_STAGES}, got {s!r}")
+
+
+@lru_cache(maxsize=None)
+def rkc1(s: int, damping=RKC1_DEFAULT_DAMPING) -> Scheme:
+    """Return the first-order damped Chebyshev polynomial R(z) = T_s(w0 + w1 z) / T_s(w0).
+
+    w0 = 1 + eps / s^2, w1 = T_s(w0) / T_s'(w0) (van der Houwen & Sommeijer, ZAMM 60, 1980;
+    Hundsdorfer & Verwer, Numerical Solution of Time-Dependent Advection-Diffusion-Reaction
+    Equations, Springer 2003, section V.1).
+    """
+    _check_stages(s)
+    eps = sp.Rational(damping)
+    if eps < 0:
+        raise InputError("damping", f"must be >= 0, got {eps}")
+    T, x = _chebyshev_T(s)
+    w0 = 1 + eps / s**2
+    T0 = T.subs(x, w0)
+    w1 = T0 / sp.diff(T, x).subs(x, w0)
+    P = sp.expand(T.subs(x, w0 + w1 * Z) / T0)
+    return from_stability_function(
+        P, 1, name=f"rkc{s}" if eps == RKC1_DEFAULT_DAMPING else f"rkc{s}@{eps}",
+        label=f"Runge-Kutta-Chebyshev, first order, s = {s}, damping {eps}",
+        family="Runge-Kutta-Chebyshev", stages=s, explicit=True, kind="rkc",
+        source="van der Houwen & Sommeijer 1980 (damped Chebyshev polynomial)",
+        details={"damping": str(eps), "order": 1})
+
+
+@lru_cache(maxsize=None)
+def rkc2(s: int, damping=RKC2_DEFAULT_DAMPING) -> Scheme:
+    """Return the second-order Chebyshev polynomial R(z) = a_s + b_s T_s(w0 + w1 z).
+
+    b_s = T_s''(w0) / T_s'(w0)^2, a_s = 1 - b_s T_s(w0), w1 = T_s'(w0) / T_s''(w0),
+    w0 = 1 + eps / s^2 (Sommeijer, Shampine & Verwer, J. Comput. Appl. Math. 88, 1998).
+    """
+    _check_stages(s)
+    if s < 2:
+        raise InputError("stages", "the second-order Chebyshev family needs s >= 2")
+    eps = sp.Rational(damping)
+    T, x = _chebyshev_T(s)
+    w0 = 1 + eps / s**2
+    d1 = sp.diff(T, x).subs(x, w0)
+    d2 = sp.diff(T, x, 2).subs(x, w0)
+    w1 = d1 / d2
+    b = d2 / d1**2
+    a = 1 - b * T.subs(x, w0)
+    P = sp.expand(a + b * T.subs(x, w0 + w1 * Z))
+    return from_stability_function(
+        P, 1, name=f"rkc2-{s}" if eps == RKC2_DEFAULT_DAMPING else f"rkc2-{s}@{eps}",
+        label=f"Runge-Kutta-Chebyshev, second order, s = {s}, damping {eps}",
+        family="Runge-Kutta-Chebyshev", stages=s, explicit=True, kind="rkc",
+        source="Sommeijer, Shampine & Verwer 1998 (second-order RKC)",
+        details={"damping": str(eps), "order": 2})
