@@ -94,6 +94,22 @@ def _structure(pi: StabilityPolynomial, phi: float) -> _Structure:
     return _Structure(windows=w, ends=ends, thetas=thetas, pattern=pattern)
 
 
+REFINE_DEPTH = 14
+REFINE_WIDTH = 1e-7
+
+
+def _similar(a: "_Structure", b: "_Structure") -> bool:
+    """Return True when two neighbouring directions share one window structure."""
+    if a.pattern != b.pattern or a.ends.size != b.ends.size or a.pattern[3]:
+        return False
+    if a.ends.size:
+        rel = np.abs(a.ends - b.ends) / np.maximum(a.ends, b.ends)
+        dth = np.abs(np.angle(np.exp(1j * (a.thetas - b.thetas))))
+        if np.any(rel > 0.05) or np.any(dth > 0.2):
+            return False
+    return True
+
+
 class _Table:
     """Exact window structures at table directions, for interpolation."""
 
@@ -104,21 +120,39 @@ class _Table:
             self.phi = np.linspace(0.0, np.pi, n // 2 + 1)
         else:
             self.phi = np.linspace(-np.pi, np.pi, n + 1)
-        self.structs = [_structure(pi, p) for p in self.phi]
+        phis = list(self.phi)
+        structs = [_structure(pi, p) for p in phis]
         if not self.real:
-            self.structs[-1] = self.structs[0]
+            structs[-1] = structs[0]
+        # refine where the window structure changes (a ray grazing the boundary): bisect the
+        # cell until both ends agree or the cell is narrower than REFINE_WIDTH
+        for _ in range(REFINE_DEPTH):
+            new_phis, new_structs, changed = [phis[0]], [structs[0]], False
+            for i in range(len(phis) - 1):
+                if not _similar(structs[i], structs[i + 1]) and phis[i + 1] - phis[i] > REFINE_WIDTH:
+                    mid = 0.5 * (phis[i] + phis[i + 1])
+                    new_phis.append(mid)
+                    new_structs.append(_structure(pi, mid))
+                    changed = True
+                new_phis.append(phis[i + 1])
+                new_structs.append(structs[i + 1])
+            phis, structs = new_phis, new_structs
+            if not changed:
+                break
+        self.phi = np.array(phis)
+        self.structs = structs
         n_nodes = len(self.phi)
-        self.smooth = np.zeros(n_nodes - 1, dtype=bool)
-        for i in range(n_nodes - 1):
-            a, b = self.structs[i], self.structs[i + 1]
-            if a.pattern != b.pattern or a.ends.size != b.ends.size or a.pattern[3]:
-                continue
-            if a.ends.size:
-                rel = np.abs(a.ends - b.ends) / np.maximum(a.ends, b.ends)
-                dth = np.abs(np.angle(np.exp(1j * (a.thetas - b.thetas))))
-                if np.any(rel > 0.05) or np.any(dth > 0.2):
-                    continue
-            self.smooth[i] = True
+        self.smooth = np.array([_similar(structs[i], structs[i + 1]) for i in range(n_nodes - 1)])
+        # one id per distinct window pattern (which ends open/close which windows)
+        shapes = {}
+        self.pattern_ids = np.zeros(n_nodes, dtype=np.int64)
+        self.pattern_rep = []
+        for i, st in enumerate(self.structs):
+            key = tuple((lo > 0, math.isfinite(hi)) for lo, hi in st.windows)
+            if key not in shapes:
+                shapes[key] = len(self.pattern_rep)
+                self.pattern_rep.append(i)
+            self.pattern_ids[i] = shapes[key]
         width = max(s.ends.size for s in self.structs)
         self.width = width
         self.ends = np.full((n_nodes, max(width, 1)), np.nan)
@@ -343,10 +377,11 @@ def _combine(windows_t, radius: np.ndarray, n: int):
             f = w[0][1] if (w and w[0][0] == 0.0) else 0.0
             per[sel] = f / radius[sel]
             groups.append((w, radius[sel]))
-        # group smooth eigenvalues by cell pattern for the window intersection
-        for c in np.unique(cell[sm]):
-            sel = sm & (cell == c)
-            s = tab.structs[c]
+        # group smooth eigenvalues by window pattern for the intersection
+        pat_id = tab.pattern_ids[cell]
+        for pid in np.unique(pat_id[sm]):
+            sel = sm & (pat_id == pid)
+            s = tab.structs[tab.pattern_rep[pid]]
             groups.append((("cell", s, ends[sel]), radius[sel]))
     return per, _intersect(groups)
 
@@ -386,6 +421,10 @@ def _intersect(groups) -> tuple:
         return ()
     lo = np.concatenate(los)
     hi = np.concatenate(his)
+    if lo.size == total and not np.any(lo > 0):
+        # every eigenvalue has the single window (0, h_j]: the intersection is (0, min h_j]
+        top = float(np.min(hi))
+        return ((0.0, None if math.isinf(top) else top),)
     # sweep: h is stable when the number of eigenvalues covering it equals total
     ev_pos = np.concatenate([lo, hi])
     ev_val = np.concatenate([np.ones(lo.size, dtype=np.int64), -np.ones(hi.size, dtype=np.int64)])
