@@ -12,15 +12,19 @@ arithmetic of our own; sympy only receives the finished numbers. What is accepte
   It has the same precedence as ``*`` and ``/``, read left to right, so ``1/2 z^2`` is z^2/2.
   It is refused right after a division by anything but a number (``1/(1-z)(1+z)`` could mean
   either grouping);
-* the imaginary unit ``i`` (also ``j``, ``I``) only where the caller allows complex values.
+* the imaginary unit ``i`` (also ``j``, ``I``) only where the caller allows complex values;
+* the variable under its name or an alias (``ζ`` for ``zeta``), spelt one way in one text.
 
 Refused, with a message naming the field, the place and the problem: two numbers side by side,
 two signs in a row (``1+-z``), chained powers (``z^2^3``), non-integer or variable exponents,
-``0^0``, division by zero, names other than the variable, ``=``, and anything over the bounds
-in stepfence.limits (text length, polynomial degree) or in the constants below (nesting, size
-of one exact number, total arithmetic), so no text can make a parse slow or huge.
+``0^0``, division by zero, names other than the variable, ``=``, ``inf`` and ``nan``, in number
+fields a sign with a space before it and none after (``1 -1``: a list typed without commas?),
+and anything over the bounds in stepfence.limits (text length, polynomial degree) or in the
+constants below (nesting, size of one exact number, total arithmetic), so no text can make a
+parse slow or huge.
 
 Positions in errors are 0-based character offsets into the text; line and column are 1-based.
+format_exact writes an exact number back as text these parsers read.
 """
 from __future__ import annotations
 
@@ -35,7 +39,7 @@ from .errors import InputError, LimitExceeded
 from .limits import MAX_POLY_DEGREE, MAX_TEXT_CHARS
 
 MAX_NESTING = 100            # parentheses deep; keeps the recursive reader far from Python's limit
-MAX_LITERAL_DIGITS = 1200    # digits in one number literal
+MAX_LITERAL_DIGITS = 1250    # digits in one number literal: room for any MAX_NUMBER_BITS integer
 MAX_NUMBER_BITS = 4096       # numerator or denominator of any exact rational (~1233 digits), far
                              # below the 4300 digits Python still converts with str()
 MAX_NUMBER_TERMS = 16        # terms of one exact irrational number, as in 1 + sqrt(2) + sqrt(3)
@@ -49,8 +53,10 @@ FUNCTION_NAMES = ("sqrt",)
 
 _ONE_CHAR_OPS = {"+": "+", "-": "-", "\u2212": "-", "*": "*", "\u00b7": "*", "\u00d7": "*",
                  "/": "/", "^": "^", "(": "(", ")": ")", ",": ",", ";": ";", "[": "[", "]": "]"}
+_ASCII_DIGITS = {c: i for i, c in enumerate("0123456789")}
+_ASCII_SIGNS = {"+": False, "-": True, "\u2212": True}
 _SUPERSCRIPT_DIGITS = {c: i for i, c in enumerate("⁰¹²³⁴⁵⁶⁷⁸⁹")}
-_SUPERSCRIPT_MINUS = "⁻"
+_SUPERSCRIPT_SIGNS = {"⁺": False, "⁻": True}
 _ALLOWED = "numbers, + - * / ^, parentheses and sqrt(...)"
 
 _ZERO = Fraction(0)
@@ -132,16 +138,21 @@ def _term_count(a) -> int:
     return len(a.terms) if isinstance(a, _Surd) else 1
 
 
+def _accumulate(terms: dict, key: tuple, q: Fraction):
+    """Add q to the term under key, dropping it when it cancels to zero."""
+    s = terms.get(key, _ZERO) + q
+    if s:
+        terms[key] = s
+    else:
+        terms.pop(key, None)
+
+
 def _nadd(a, b):
     if not isinstance(a, _Surd) and not isinstance(b, _Surd):
         return a + b
     out = dict(_terms_of(a))
     for key, q in _terms_of(b).items():
-        s = out.get(key, _ZERO) + q
-        if s:
-            out[key] = s
-        else:
-            out.pop(key, None)
+        _accumulate(out, key, q)
     return _number(out)
 
 
@@ -163,12 +174,7 @@ def _nmul(a, b):
             e = e1 + e2
             if e == 2:
                 q, e = -q, 0
-            key = ((m1 // g) * (m2 // g), e)
-            s = out.get(key, _ZERO) + q
-            if s:
-                out[key] = s
-            else:
-                out.pop(key, None)
+            _accumulate(out, ((m1 // g) * (m2 // g), e), q)
     return _number(out)
 
 
@@ -252,6 +258,31 @@ def _to_sympy(c) -> sp.Expr:
         return sp.Rational(c.numerator, c.denominator)
     return sp.Add(*[sp.Rational(q.numerator, q.denominator) * sp.sqrt(sp.Integer(m))
                     * (sp.I if e else 1) for (m, e), q in sorted(c.terms.items())])
+
+
+def _power(ctx: _Context, a, n: int):
+    """Return a^n for an exact a and an integer n of at most MAX_EXPONENT."""
+    if abs(n) > MAX_EXPONENT:
+        raise ctx.error(ctx.at, f"the exponent {n} is larger than {MAX_EXPONENT}", limit=True)
+    if n < 0:
+        a, n = _ninv(ctx, a), -n
+    if isinstance(a, Fraction):
+        # refuse before computing: a^n has about n times the bits of a
+        if a and (max(a.numerator.bit_length(), a.denominator.bit_length()) - 1) * n \
+                > MAX_NUMBER_BITS:
+            raise ctx.error(ctx.at, f"an exact number here needs more than {MAX_NUMBER_BITS} "
+                                    "bits", limit=True)
+        return _checked(ctx, a ** n)
+    result = _ONE
+    while n:
+        if n & 1:
+            ctx.charge(_product_cost((result,), (a,)))
+            result = _checked(ctx, _nmul(result, a))
+        n >>= 1
+        if n:
+            ctx.charge(_product_cost((a,), (a,)))
+            a = _checked(ctx, _nmul(a, a))
+    return result
 
 
 # --- polynomials: tuples of exact coefficients, ascending powers ----------------------------
@@ -383,20 +414,10 @@ def _tokenize(ctx: _Context, newline_separates: bool) -> list[_Token]:
             while i < n and (text[i].isalpha() or text[i] == "_" or "0" <= text[i] <= "9"):
                 i += 1
             tokens.append(_Token("name", text[start:i], start, i, space))
-        elif c in _SUPERSCRIPT_DIGITS or c == _SUPERSCRIPT_MINUS:
-            i += 1 if c == _SUPERSCRIPT_MINUS else 0
-            j = i
-            while j < n and text[j] in _SUPERSCRIPT_DIGITS:
-                j += 1
-            if j == i:
-                raise ctx.error(start, "a superscript minus needs superscript digits after it",
-                                expected="an exponent such as ⁻¹")
-            if j - i > 6:
-                raise ctx.error(start, "a superscript exponent is too large", limit=True)
-            value = int("".join(str(_SUPERSCRIPT_DIGITS[d]) for d in text[i:j]))
-            value = -value if c == _SUPERSCRIPT_MINUS else value
-            tokens.append(_Token("sup", text[start:j], start, j, space, value))
-            i = j
+        elif c in _SUPERSCRIPT_DIGITS or c in _SUPERSCRIPT_SIGNS:
+            i, value = _read_signed_digits(ctx, i, _SUPERSCRIPT_SIGNS, _SUPERSCRIPT_DIGITS,
+                                           "a superscript exponent", "such as ⁻¹")
+            tokens.append(_Token("sup", text[start:i], start, i, space, value))
         elif text.startswith("**", i):
             tokens.append(_Token("op", "^", i, i + 2, space))
             i += 2
@@ -413,37 +434,54 @@ def _tokenize(ctx: _Context, newline_separates: bool) -> list[_Token]:
     return tokens
 
 
+def _run_end(text: str, i: int, chars) -> int:
+    """Return the index just past the run of characters from chars that starts at i."""
+    n = len(text)
+    while i < n and text[i] in chars:
+        i += 1
+    return i
+
+
+def _read_signed_digits(ctx: _Context, i: int, signs: dict, digits: dict, what: str,
+                        example: str, position: int | None = None) -> tuple[int, int]:
+    """Return (end, value) of an optional sign and at most 6 digits starting at i.
+
+    signs maps each sign character to whether it negates, digits each digit to its value;
+    errors point at position (default i) and call the thing read `what`.
+    """
+    text = ctx.text
+    where = i if position is None else position
+    negative = False
+    if i < len(text) and text[i] in signs:
+        negative = signs[text[i]]
+        i += 1
+    j = _run_end(text, i, digits)
+    if j == i:
+        raise ctx.error(where, f"{what} has no digits", expected=example)
+    if j - i > 6:
+        raise ctx.error(where, f"{what} is too large", limit=True)
+    value = int("".join(str(digits[d]) for d in text[i:j]))
+    return j, -value if negative else value
+
+
 def _read_number(ctx: _Context, i: int) -> tuple[int, Fraction]:
     """Return (end, exact value) of the decimal literal starting at i."""
     text, n = ctx.text, len(ctx.text)
     start = i
-    while i < n and "0" <= text[i] <= "9":
-        i += 1
+    i = _run_end(text, i, _ASCII_DIGITS)
     whole = text[start:i]
     frac = ""
     if i < n and text[i] == ".":
-        i += 1
-        f0 = i
-        while i < n and "0" <= text[i] <= "9":
-            i += 1
+        f0 = i + 1
+        i = _run_end(text, f0, _ASCII_DIGITS)
         frac = text[f0:i]
         if i < n and text[i] == ".":
             raise ctx.error(i, "a number has a second decimal point")
     exp = 0
     if i < n and text[i] in "eE":
-        j = i + 1
-        if j < n and text[j] in "+-\u2212":
-            j += 1
-        k = j
-        while k < n and "0" <= text[k] <= "9":
-            k += 1
-        if k == j:
-            raise ctx.error(i, "the exponent of a number has no digits",
-                            expected="digits after 'e', as in 1e-3")
-        if k - j > 6:
-            raise ctx.error(start, "the exponent of a number is too large", limit=True)
-        exp = int(text[j:k]) * (-1 if text[i + 1] in "-\u2212" else 1)
-        i = k
+        i, exp = _read_signed_digits(ctx, i + 1, _ASCII_SIGNS, _ASCII_DIGITS,
+                                     "the exponent of a number", "digits after 'e', as in 1e-3",
+                                     position=i)
     digits = (whole + frac).lstrip("0") or "0"
     if len(digits) > MAX_LITERAL_DIGITS:
         raise ctx.error(start, f"a number has more than {MAX_LITERAL_DIGITS} digits", limit=True)
@@ -452,7 +490,7 @@ def _read_number(ctx: _Context, i: int) -> tuple[int, Fraction]:
     if mantissa == 0:
         return i, _ZERO
     # a cheap early refusal; the exact bit count is checked once the value exists
-    if (len(digits) + abs(exp)) * 3.3 > 2 * MAX_NUMBER_BITS:
+    if max(len(digits) + max(exp, 0), -exp) * 3.33 > 2 * MAX_NUMBER_BITS:
         raise ctx.error(start, f"an exact number here needs more than {MAX_NUMBER_BITS} bits",
                         limit=True)
     value = Fraction(mantissa * 10 ** exp) if exp >= 0 else Fraction(mantissa, 10 ** -exp)
@@ -504,6 +542,7 @@ class _Reader:
         self.allow_complex = allow_complex
         self.in_list = in_list
         self.depth = 0
+        self.spelling = None        # the one spelling of the variable this text uses
 
     # token helpers
     @property
@@ -680,6 +719,11 @@ class _Reader:
     def name(self) -> _Value:
         t = self.take()
         if t.text in self.names:
+            if self.spelling is None:
+                self.spelling = t.text
+            elif t.text != self.spelling:
+                raise self.fail(f"the variable is written both {self.spelling!r} and "
+                                f"{t.text!r}: use one name throughout", t)
             return _Value((_ZERO, _ONE))
         if t.text in IMAGINARY_NAMES:
             if not self.allow_complex:
@@ -691,6 +735,8 @@ class _Reader:
         raise self.fail(self.unknown_name_message(t.text), t)
 
     def unknown_name_message(self, name: str) -> str:
+        if name.lower() in ("inf", "infinity", "nan", "oo"):
+            return f"{name!r} is not a finite number"
         if self.variable is None:
             return f"unknown name {name!r}: this field takes a number, not a variable " \
                    f"({_ALLOWED})"
@@ -781,15 +827,9 @@ class _Reader:
             raise self.fail(f"the degree would exceed {MAX_POLY_DEGREE}", op, limit=True)
         if base.num == (_ZERO, _ONE) and base.den == (_ONE,):
             return _Value((_ZERO,) * n + (_ONE,))     # a power of the variable itself
-        q = base.constant
-        if isinstance(q, Fraction):
-            # refuse before computing: q^n has about n times the bits of q
-            if q and (max(q.numerator.bit_length(), q.denominator.bit_length()) - 1) * n \
-                    > MAX_NUMBER_BITS:
-                raise self.fail(f"an exact number here needs more than {MAX_NUMBER_BITS} bits",
-                                op, limit=True)
+        if base.is_constant:
             self.ctx.at = op.start
-            return _Value((_checked(self.ctx, q ** n),))
+            return _Value((_power(self.ctx, base.constant, n),))
         result = _Value((_ONE,))
         square = base
         while n:
@@ -1033,3 +1073,75 @@ def parse_rational_function(text: str, field: str, variable: str = "z", *, alias
     inv = _ninv(ctx, den[0] if den[0] != 0 else den[-1])
     return (tuple(_to_sympy(c) for c in _pscale(ctx, num, inv)),
             tuple(_to_sympy(c) for c in _pscale(ctx, den, inv)))
+
+
+def format_exact(value) -> str:
+    """Return text for an exact number that parse_number reads back to the same value.
+
+    Parameters
+    ----------
+    value : int, fractions.Fraction or sympy.Expr
+        A rational, or a sum of rational multiples of square roots of rationals and of i, as
+        the parsers here return them.
+
+    Returns
+    -------
+    str
+        Such as ``-1/12``, ``1/2 - sqrt(3)/6`` or ``3/4 + sqrt(2)*i/2``; complex values need
+        ``allow_complex=True`` to be read back.
+
+    Raises
+    ------
+    ValueError
+        For anything else (floats, pi, symbols, nested roots).
+
+    Examples
+    --------
+    >>> format_exact(parse_number("(3 - sqrt(3))/6", "c"))
+    '1/2 - sqrt(3)/6'
+    """
+    c = _from_sympy(_Context("", "value"), value)
+    if not isinstance(c, _Surd):
+        return str(c)
+    order = sorted(c.terms.items(), key=lambda item: (item[0][1], item[0][0]))
+    text = ""
+    for k, ((m, e), q) in enumerate(order):
+        parts = [str(abs(q.numerator))] if abs(q.numerator) != 1 or (m, e) == (1, 0) else []
+        parts += [f"sqrt({m})"] if m != 1 else []
+        parts += ["i"] if e else []
+        term = "*".join(parts) + (f"/{q.denominator}" if q.denominator != 1 else "")
+        if k == 0:
+            text = ("-" if q < 0 else "") + term
+        else:
+            text += (" - " if q < 0 else " + ") + term
+    return text
+
+
+def _from_sympy(ctx: _Context, x):
+    """Return our exact form of a sympy (or int, Fraction) number, walking its tree."""
+    if isinstance(x, bool):
+        raise ValueError("a boolean is not a number")
+    if isinstance(x, int):
+        return Fraction(x)
+    if isinstance(x, Fraction):
+        return x
+    if not isinstance(x, sp.Basic):
+        raise ValueError(f"not an exact number: {x!r}")
+    if x.is_Rational:
+        return Fraction(int(x.p), int(x.q))
+    if x is sp.I:
+        return _Surd({(1, 1): _ONE})
+    if x.is_Add or x.is_Mul:
+        parts = [_from_sympy(ctx, a) for a in x.args]
+        out = parts[0]
+        for part in parts[1:]:
+            out = _checked(ctx, _nadd(out, part) if x.is_Add else _nmul(out, part))
+        return out
+    if x.is_Pow and x.exp.is_Rational:
+        base, exp = _from_sympy(ctx, x.base), x.exp
+        if exp.q == 2 and isinstance(base, Fraction):
+            root = _sqrt(ctx, base, allow_complex=True)
+            return _power(ctx, root, int(exp.p))
+        if exp.q == 1:
+            return _power(ctx, base, int(exp.p))
+    raise ValueError(f"not a rational combination of square roots of rationals and i: {x}")

@@ -185,8 +185,10 @@ def _scaled_candidates(pi: StabilityPolynomial, d: complex, rng) -> tuple[np.nda
     ev = _matrix_poly_eigs(slices)
     keep = (np.abs(ev.imag) <= REAL_TOL * np.maximum(np.abs(ev), 1e-300)) & (ev.real > 0)
     t = np.sort(ev.real[keep])
-    # a candidate at t ~ 0 is the consistency root zeta = 1 itself, not a crossing
-    t = t[t > 1e-10]
+    # a candidate at t ~ 0 is the consistency root zeta = 1 itself (the resultant has a
+    # multiple root at 0 that rounding splits), not a crossing; genuine first exits below 1e-6
+    # occur only for directions within ~1e-18 rad of grazing, below the resolution of arg
+    t = t[t > 1e-6]
     return t, degenerate
 
 

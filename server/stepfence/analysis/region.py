@@ -144,7 +144,7 @@ class RegionMetrics:
 def _interval_from(neg: RayWindows, pos: RayWindows):
     lo = neg.first_exit
     hi = pos.first_exit
-    return (None if math.isinf(lo) else -lo, None if math.isinf(hi) else hi)
+    return (None if math.isinf(lo) else (-lo if lo else 0.0), None if math.isinf(hi) else hi)
 
 
 def _to_z(windows, d):
