@@ -162,6 +162,106 @@ class _Table:
             self.thetas[i, : s.ends.size] = s.thetas
 
 
+FINE_PER_CELL = 32       # fine nodes per coarse table cell for the Hermite interpolant
+FINE_TOL = 2e-15         # accepted relative interpolation error, checked at every fine midpoint
+
+
+
+def _exit_derivative(pi, phi, t, th):
+    """Return dt/dphi along F(t, theta; phi) = pi(e^{i theta}, t e^{i phi}) = 0."""
+    d = np.exp(1j * phi)
+    w = np.exp(1j * th)
+    _, fw, fz = pi.evaluate(w, t * d)
+    a = fz * d             # dF/dt
+    b = fw * 1j * w        # dF/dtheta
+    c = fz * 1j * t * d    # dF/dphi
+    det = a.real * b.imag - b.real * a.imag
+    return (-c.real * b.imag + b.real * c.imag) / det
+
+
+class _FineExit:
+    """Window ends r_e(phi) as verified piecewise cubic Hermite interpolants.
+
+    On a uniform grid FINE_PER_CELL times finer than the coarse table, every window end and
+    its derivative d r_e / d phi are computed by Newton's method and implicit differentiation
+    of pi(e^{i theta}, t e^{i phi}) = 0. A fine cell is used only when both nodes and its
+    midpoint lie in smooth coarse cells of one window pattern and the interpolant matches a
+    Newton solve at the midpoint to FINE_TOL for every end; elsewhere the caller falls back to
+    per-eigenvalue Newton or the exact route.
+    """
+
+    def __init__(self, tab: "_Table"):
+        self.tab = tab
+        lo, hi = (0.0, np.pi) if tab.real else (-np.pi, np.pi)
+        n_cells = (TABLE_SIZE // 2 if tab.real else TABLE_SIZE) * FINE_PER_CELL
+        self.lo, self.h, self.n = lo, (hi - lo) / n_cells, n_cells
+        self.width = max(tab.width, 1)
+        phi = lo + self.h * np.arange(n_cells + 1)
+        self.pid, self.r, self.dr = self._nodes(phi)
+        mid = phi[:-1] + 0.5 * self.h
+        pmid, rmid, _ = self._nodes(mid)
+        ok = (self.pid[:-1] == self.pid[1:]) & (pmid == self.pid[:-1]) & (self.pid[:-1] >= 0)
+        j = np.arange(n_cells)
+        with np.errstate(invalid="ignore"):
+            interp = self._hermite(j, np.full(n_cells, 0.5))
+            used = np.isfinite(rmid)
+            err = np.where(used, np.abs(interp - rmid) / np.where(used, np.abs(rmid), 1.0), 0.0)
+            bad = np.any(err > FINE_TOL, axis=1) | np.any(np.isfinite(rmid) != np.isfinite(interp), axis=1)
+        self.cell_ok = ok & ~bad
+
+    def _nodes(self, phi):
+        """Return (pattern id or -1, ends (n, W) with nan padding, derivatives) at phi."""
+        tab = self.tab
+        cell = np.clip(np.searchsorted(tab.phi, phi, side="right") - 1, 0, len(tab.phi) - 2)
+        pid = np.where(tab.smooth[cell], tab.pattern_ids[cell], -1)
+        n_ends = np.array([st.ends.size for st in tab.structs])[cell]
+        r = np.full((phi.size, self.width), np.nan)
+        dr = np.full((phi.size, self.width), np.nan)
+        frac = (phi - tab.phi[cell]) / (tab.phi[cell + 1] - tab.phi[cell])
+        d = np.exp(1j * phi)
+        for e in range(tab.width):
+            sel = (pid >= 0) & (n_ends > e)
+            if not np.any(sel):
+                continue
+            c, f = cell[sel], frac[sel]
+            t0 = tab.ends[c, e] * (1 - f) + tab.ends[c + 1, e] * f
+            dth = np.angle(np.exp(1j * (tab.thetas[c + 1, e] - tab.thetas[c, e])))
+            th0 = tab.thetas[c, e] + f * dth
+            t, th, ok = _newton_refine(tab.pi, d[sel], t0, th0, iterations=6)
+            ok &= np.abs(t - t0) <= 0.05 * t0
+            r[sel, e] = np.where(ok, t, np.nan)
+            dr[sel, e] = np.where(ok, _exit_derivative(tab.pi, phi[sel], t, th), np.nan)
+            failed = np.nonzero(sel)[0][~ok]
+            pid[failed] = -1
+        return pid, r, dr
+
+    def _hermite(self, j, u):
+        r0, r1 = self.r[j], self.r[j + 1]
+        m0, m1 = self.dr[j] * self.h, self.dr[j + 1] * self.h
+        u = u[:, None]
+        u2 = u * u
+        u3 = u2 * u
+        return ((2 * u3 - 3 * u2 + 1) * r0 + (u3 - 2 * u2 + u) * m0 +
+                (-2 * u3 + 3 * u2) * r1 + (u3 - u2) * m1)
+
+    def lookup(self, phi):
+        """Return (ok, pattern id, ends) with ends shape (ok.sum(), W) for the usable ones."""
+        x = (phi - self.lo) / self.h
+        j = np.clip(x.astype(np.int64), 0, self.n - 1)
+        ok = self.cell_ok[j]
+        jo = j[ok]
+        if self.width == 1 and not np.any(np.isfinite(self.r)):
+            ends = np.full((jo.size, 1), np.nan)
+        else:
+            ends = self._hermite(jo, x[ok] - jo)
+        return ok, self.pid[jo], ends
+
+
+@lru_cache(maxsize=16)
+def _fine_for(key) -> _FineExit:
+    return _FineExit(_table_for(key))
+
+
 @lru_cache(maxsize=16)
 def _table_for(key) -> _Table:
     pi = _PI_REGISTRY[key]
@@ -177,9 +277,10 @@ def _pi_key(pi: StabilityPolynomial):
     return key
 
 
-def _newton_refine(pi: StabilityPolynomial, d: np.ndarray, t: np.ndarray, th: np.ndarray):
+def _newton_refine(pi: StabilityPolynomial, d: np.ndarray, t: np.ndarray, th: np.ndarray,
+                   iterations: int = NEWTON_ITERATIONS):
     """Return (t, theta, ok) after Newton on pi(e^{i theta}, t d) = 0, vectorised."""
-    for _ in range(NEWTON_ITERATIONS):
+    for _ in range(iterations):
         w = np.exp(1j * th)
         f, fw, fz = pi.evaluate(w, t * d)
         a = fz * d           # dF/dt
@@ -253,6 +354,7 @@ def step_limit(scheme: Scheme, eigenvalues, safety: float | None = None,
     exact_count = 0
     if lam_nz.size == 0:
         windows_t = []
+        per, windows_h = np.array([]), ((0.0, None),)
     else:
         uniq = None
         if table is not True:
@@ -270,8 +372,10 @@ def step_limit(scheme: Scheme, eigenvalues, safety: float | None = None,
             idx = np.searchsorted(uniq, phi)
             windows_t = ("by-direction", uniq, [wins[float(u)] for u in uniq], idx)
         else:
-            windows_t, exact_count = _table_windows(pi, phi)
-    per, windows_h = _combine(windows_t, radius, lam_nz.size)
+            windows_t = None
+            per, windows_h, exact_count = _fine_route(pi, phi, radius)
+    if windows_t is not None:
+        per, windows_h = _combine(windows_t, radius, lam_nz.size)
     per_full = np.full(lam.size, np.nan)
     per_full[nz] = per
     if not rc.zero_stable:
@@ -304,6 +408,70 @@ def step_limit(scheme: Scheme, eigenvalues, safety: float | None = None,
         evaluations_per_step=evals, h_max_per_evaluation=per_eval, zero_eigenvalues=n_zero,
         growing_eigenvalues=growing, zero_stable=rc.zero_stable, count=int(lam.size),
         exact_directions=exact_count, messages=tuple(messages), safety=safety)
+
+
+def _clip_windows(windows, top):
+    """Return windows intersected with (0, top] (top may be inf)."""
+    out = []
+    for lo, hi in windows:
+        hi_v = math.inf if hi is None else hi
+        if lo >= top:
+            continue
+        h = min(hi_v, top)
+        out.append((lo, None if math.isinf(h) else h))
+    return tuple(w for w in out if w[1] is None or w[1] > w[0])
+
+
+def _intersect_lists(a, b):
+    """Return the intersection of two window lists ((lo, hi or None), ...)."""
+    out = []
+    for lo1, hi1 in a:
+        for lo2, hi2 in b:
+            lo = max(lo1, lo2)
+            h1 = math.inf if hi1 is None else hi1
+            h2 = math.inf if hi2 is None else hi2
+            hi = min(h1, h2)
+            if hi > lo or (math.isinf(hi)):
+                out.append((lo, None if math.isinf(hi) else hi))
+    return tuple(sorted(out))
+
+
+def _fine_route(pi, phi, radius):
+    """Return (per-eigenvalue h_max, windows, exact count) via the verified interpolants."""
+    key = _pi_key(pi)
+    fine = _fine_for(key)
+    tab = fine.tab
+    ok, pid, ends = fine.lookup(phi)
+    per = np.empty(phi.size)
+    rad_ok = radius[ok]
+    per_ok = np.zeros(pid.size)
+    windows = ((0.0, None),)
+    groups = []
+    for p in np.unique(pid):
+        sel = pid == p
+        st = tab.structs[tab.pattern_rep[p]]
+        w = st.windows
+        if not w:
+            windows = ()  # some eigenvalue is stable for no h at all (h_max 0 for it)
+            continue
+        if w[0][0] == 0.0:
+            per_ok[sel] = np.inf if math.isinf(w[0][1]) else ends[sel, 0] / rad_ok[sel]
+        if len(w) == 1 and w[0][0] == 0.0:
+            top = float(np.min(per_ok[sel]))
+            windows = _intersect_lists(windows, ((0.0, None if math.isinf(top) else top),))
+        else:
+            groups.append((("cell", st, ends[sel]), rad_ok[sel]))
+    per[ok] = per_ok
+    if groups:
+        windows = _intersect_lists(windows, _intersect(groups))
+    exact_count = 0
+    rest = ~ok
+    if np.any(rest):
+        sub, exact_count = _table_windows(pi, phi[rest])
+        per_r, win_r = _combine(sub, radius[rest], int(rest.sum()))
+        per[rest] = per_r
+        windows = _intersect_lists(windows, win_r)
+    return per, windows, exact_count
 
 
 def _table_windows(pi: StabilityPolynomial, phi: np.ndarray):
