@@ -249,7 +249,7 @@ def _mp_exit(scheme, d, guess, dps=50):
 
 
 @pytest.mark.parametrize("name,d", [("ab3", -1), ("ab3", 1j), ("ab4", 1j), ("am4", -1),
-                                    ("bdf5", 1j), ("abm4-pece", -1), ("rkc6", -1),
+                                    ("bdf5", 1j), ("abm4-pece", -1), ("rkc6", -1), ("rk4", 1j),
                                     ("ab2", np.exp(2.5j)), ("bdf4", np.exp(1.7j))])
 def test_interval_endpoints_against_mpmath(name, d):
     s = get_scheme(name)
@@ -260,14 +260,41 @@ def test_interval_endpoints_against_mpmath(name, d):
     assert t == pytest.approx(ref, rel=1e-12)
 
 
-def test_rkc10_real_interval_against_mpmath_known_precision_loss():
-    # Known limitation: the Chebyshev polynomial is evaluated in the monomial basis, whose
-    # coefficients grow like 2^s, so digits are lost as s grows (about 1e-9 at s = 10).
-    s = get_scheme("rkc10")
-    t = ray_windows(s.pi, -1).first_exit
-    assert t == pytest.approx(_mp_exit(s, -1, t), rel=1e-8)
-    # van der Houwen & Sommeijer 1980: beta(s) ~ (2 - 4 eps / 3) s^2 for small damping eps
-    assert t == pytest.approx((2 - 4 * 0.05 / 3) * 100, rel=0.01)
+@pytest.mark.parametrize("name,s,order", [("rkc10", 10, 1), ("rkc50", 50, 1), ("rkc200", 200, 1),
+                                          ("rkc2-10", 10, 2), ("rkc2-80", 80, 2)])
+def test_rkc_real_interval_against_mpmath_chebyshev(name, s, order):
+    # independent route: mpmath's own Chebyshev polynomial (mpmath.chebyt) at 60 digits in
+    # R(z) = T_s(w0 + w1 z)/T_s(w0) (van der Houwen & Sommeijer 1980) or the second-order
+    # a + b T_s(w0 + w1 z) (Sommeijer, Shampine & Verwer 1998), bisected for |R| = 1
+    sch = get_scheme(name)
+    t = ray_windows(sch.pi, -1).first_exit
+    with mpmath.workdps(60):
+        eps = mpmath.mpf(1) / 20 if order == 1 else mpmath.mpf(2) / 13
+        w0 = 1 + eps / s**2
+        T = lambda x: mpmath.chebyt(s, x)
+        dT = lambda x: mpmath.diff(T, x)
+        if order == 1:
+            w1 = T(w0) / dT(w0)
+            R = lambda z: T(w0 + w1 * z) / T(w0)
+        else:
+            d2 = mpmath.diff(T, w0, 2)
+            w1 = dT(w0) / d2
+            b = d2 / dT(w0) ** 2
+            a = 1 - b * T(w0)
+            R = lambda z: a + b * T(w0 + w1 * z)
+        lo, hi = mpmath.mpf(t) * (1 - mpmath.mpf("1e-9")), mpmath.mpf(t) * (1 + mpmath.mpf("1e-9"))
+        assert abs(R(-lo)) <= 1 < abs(R(-hi))
+        for _ in range(60):
+            mid = (lo + hi) / 2
+            if abs(R(-mid)) <= 1:
+                lo = mid
+            else:
+                hi = mid
+        ref = float(lo)
+    assert t == pytest.approx(ref, rel=1e-12)
+    if order == 1:
+        # beta(s) ~ (2 - 4 eps / 3) s^2 for small damping (van der Houwen & Sommeijer 1980)
+        assert t == pytest.approx((2 - 4 * 0.05 / 3) * s * s, rel=0.01)
 
 
 def test_bdf3_imaginary_window_starts_later():

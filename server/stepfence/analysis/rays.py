@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.linalg
+import scipy.optimize
 
 from ..schemes.stability import StabilityPolynomial, polynomial_roots
 
@@ -145,7 +146,7 @@ def polish_crossing(pi: StabilityPolynomial, d: complex, t0: float, theta0: floa
             break
     w = np.exp(1j * th)
     f, fw, fz = pi.evaluate(w, t * d)
-    scale = np.sum(np.abs(pi.numeric) * np.abs(t * d) ** np.arange(pi.numeric.shape[1])[None, :])
+    scale = float(pi.residual_scale(abs(t * d)))
     return t, th, bool(abs(complex(f)) <= 1e-11 * max(scale, 1e-300))
 
 
@@ -160,7 +161,32 @@ def _t_scale(C: np.ndarray) -> float:
     return float((norms[0] / norms[top]) ** (1.0 / top))
 
 
+def _sampled_candidates(pi: StabilityPolynomial, d: complex) -> np.ndarray:
+    """Return crossings of a one-step scheme with a stable evaluator, by bracketing.
+
+    g(t) = |P(t d)|^2 - 1 is sampled on [0, bound] (bound from the evaluator: no stable point
+    lies beyond it) finely enough to separate the s oscillations of a degree-s polynomial,
+    and each sign change is refined by Brent's method on the stable evaluation.
+    """
+    ev = pi.evaluator
+    n = 64 * ev.s + 2000
+    t = np.linspace(0.0, ev.bound, n)
+    g = np.abs(ev.rows(t * d)[0][:, 0]) ** 2 - 1.0
+    sign = np.sign(g)
+    idx = np.nonzero(sign[:-1] * sign[1:] < 0)[0]
+    out = []
+    f = lambda x: float(np.abs(ev.rows(np.array([x * d]))[0][0, 0]) ** 2 - 1.0)
+    for i in idx:
+        if t[i] == 0:
+            continue
+        out.append(scipy.optimize.brentq(f, t[i], t[i + 1], xtol=1e-300, rtol=1e-15, maxiter=200))
+    return np.array(out)
+
+
 def _candidates(pi: StabilityPolynomial, d: complex, rng) -> tuple[np.ndarray, bool]:
+    if pi.evaluator is not None and hasattr(pi.evaluator, "bound"):
+        t = _sampled_candidates(pi, d)
+        return t[t > 1e-6], False
     T = _t_scale(ray_coefficients(pi, d))
     cands, degenerate = _scaled_candidates(pi, d * T, rng)
     return cands * T, degenerate

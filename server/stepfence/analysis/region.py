@@ -30,10 +30,18 @@ def boundary_locus(pi: StabilityPolynomial, n: int = LOCUS_POINTS):
     For each theta on [0, 2 pi] the roots z of pi(e^{i theta}, z) are found (closed form when
     pi is linear in z) and followed from one theta to the next by nearest matching.
     """
+    m = pi.degree_z
+    if m > 8:
+        n = max(256, (n * 8) // m)  # keep the drawing payload bounded for many branches
     theta = np.linspace(0.0, 2 * np.pi, n)
     w = np.exp(1j * theta)
+    ev = pi.evaluator
+    if ev is not None and hasattr(ev, "locus"):
+        roots = ev.locus(w)
+        # the closed form numbers the roots consistently except across arccos's cut; the
+        # large-jump rule below breaks the lines there
+        return theta, _branches(roots)
     cz = pi.z_coefficients(w)  # (n, m+1) ascending in z
-    m = cz.shape[1] - 1
     if m == 0:
         return theta, []
     if m == 1:
@@ -46,6 +54,10 @@ def boundary_locus(pi: StabilityPolynomial, n: int = LOCUS_POINTS):
             r = polynomial_roots(cz[i])
             roots[i, : r.size] = r
         roots = _track(roots)
+    return theta, _branches(roots)
+
+
+def _branches(roots):
     branches = []
     for b in range(roots.shape[1]):
         z = roots[:, b].copy()
@@ -56,7 +68,7 @@ def boundary_locus(pi: StabilityPolynomial, n: int = LOCUS_POINTS):
         jump = np.nonzero(step > 50 * max(scale, 1e-12))[0]
         z[jump] = np.nan
         branches.append(z)
-    return theta, branches
+    return branches
 
 
 def _track(roots: np.ndarray) -> np.ndarray:

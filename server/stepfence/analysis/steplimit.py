@@ -293,10 +293,7 @@ def _newton_refine(pi: StabilityPolynomial, d: np.ndarray, t: np.ndarray, th: np
         th = th + dth
     w = np.exp(1j * th)
     f, fw, fz = pi.evaluate(w, t * d)
-    P = np.abs(pi.numeric)
-    scale = np.zeros_like(t)
-    for j in range(P.shape[1]):
-        scale = scale + P[:, j].sum() * np.abs(t) ** j
+    scale = pi.residual_scale(np.abs(t))
     ok = np.isfinite(t) & (np.abs(f) <= 1e-10 * np.maximum(scale, 1e-300)) & (t > 0)
     return t, th, ok
 

@@ -49,6 +49,7 @@ class StabilityPolynomial:
 
     exact: tuple
     numeric: np.ndarray = field(init=False, repr=False)
+    evaluator: object = field(default=None, repr=False, compare=False)
 
     def __post_init__(self):
         rows = [tuple(sp.sympify(c) for c in row) for row in self.exact]
@@ -67,9 +68,15 @@ class StabilityPolynomial:
         object.__setattr__(self, "numeric", num)
 
     @classmethod
-    def from_expr(cls, expr: sp.Expr) -> "StabilityPolynomial":
-        """Build from a sympy expression in ZETA and Z."""
-        return cls(tuple(tuple(r) for r in exact_coefficient_matrix(expr)))
+    def from_expr(cls, expr: sp.Expr, evaluator=None) -> "StabilityPolynomial":
+        """Build from a sympy expression in ZETA and Z.
+
+        evaluator : object, optional
+            A numerically stable form of the same polynomial (e.g. a Chebyshev form) with
+            ``rows(z) -> (C, dC)``, the zeta-coefficients and their z-derivatives; used for
+            every floating-point evaluation instead of the monomial coefficients.
+        """
+        return cls(tuple(tuple(r) for r in exact_coefficient_matrix(expr)), evaluator=evaluator)
 
     # --- shape -----------------------------------------------------------------------------
     @property
@@ -106,6 +113,8 @@ class StabilityPolynomial:
     def zeta_coefficients(self, z) -> np.ndarray:
         """Return coefficients of pi(., z) ascending in zeta, shape z.shape + (k + 1,)."""
         z = np.asarray(z, dtype=complex)
+        if self.evaluator is not None:
+            return self.evaluator.rows(z)[0]
         P = self.numeric
         out = np.zeros(z.shape + (P.shape[0],), dtype=complex)
         # Horner in z for every zeta-power at once
@@ -126,6 +135,17 @@ class StabilityPolynomial:
         """Return pi(zeta, z) and its partial derivatives d/dzeta, d/dz (broadcast)."""
         zeta = np.asarray(zeta, dtype=complex)
         z = np.asarray(z, dtype=complex)
+        if self.evaluator is not None:
+            zeta, z = np.broadcast_arrays(zeta, z)
+            C, dC = self.evaluator.rows(z)
+            val = np.zeros(z.shape, dtype=complex)
+            dzeta = np.zeros(z.shape, dtype=complex)
+            dz = np.zeros(z.shape, dtype=complex)
+            for i in range(C.shape[-1] - 1, -1, -1):
+                dzeta = dzeta * zeta + val
+                val = val * zeta + C[..., i]
+                dz = dz * zeta + dC[..., i]
+            return val, dzeta, dz
         P = self.numeric
         k, m = P.shape[0] - 1, P.shape[1] - 1
         # q_i(z) = sum_j P[i,j] z^j and derivative, then Horner in zeta
@@ -143,6 +163,18 @@ class StabilityPolynomial:
             val = val * zeta + qi
             dz = dz * zeta + dqi
         return val, dzeta, dz
+
+    def residual_scale(self, zabs) -> np.ndarray:
+        """Return the size of the terms of pi at |z| = zabs (to judge a residual)."""
+        zabs = np.asarray(zabs, dtype=float)
+        if self.evaluator is not None:
+            # a stable form is evaluated near |zeta| = 1, |P| ~ 1: no cancellation to allow for
+            return np.full(zabs.shape, 4.0)
+        P = np.abs(self.numeric).sum(axis=0)
+        out = np.zeros(zabs.shape)
+        for j in range(P.size - 1, -1, -1):
+            out = out * zabs + P[j]
+        return out
 
     def roots_at(self, z0: complex) -> np.ndarray:
         """Return the roots zeta of pi(., z0) (fewer than k when the leading term vanishes)."""

@@ -26,7 +26,7 @@ from .. import limits
 from ..errors import InputError, LimitExceeded
 from .matrices import check_order, checked_dense
 from .spectrum import Spectrum, checked_values, combine_snapshots
-from .text import UNSIGNED_REAL, parse_spectrum_text, read_float, scan_number_lines
+from .text import UNSIGNED_REAL, parse_spectrum_text, scan_number_lines
 
 TEXT_EXTENSIONS = (".txt", ".csv", ".dat", ".tsv")
 LIST_EXTENSIONS = TEXT_EXTENSIONS + (".npy", ".npz")
@@ -46,9 +46,10 @@ _MM_FIELDS = ("real", "complex", "integer", "pattern")
 _MM_SYMMETRIES = ("general", "symmetric", "skew-symmetric", "hermitian")
 _MM_REAL = rf"[+-]?{UNSIGNED_REAL}"
 _MM_VALUE = {"real": rf"({_MM_REAL})", "integer": r"([+-]?[0-9]+)",
-             "complex": rf"({_MM_REAL})[ \t]+({_MM_REAL})"}
+             "complex": rf"({_MM_REAL})[ \t]+({_MM_REAL})", "pattern": ""}
 _MM_INDEX = r"[ \t]*([0-9]+)[ \t]+([0-9]+)"
 _MM_END = r"[ \t\r]*"
+_MM_GROUPS = {"real": 1, "integer": 1, "complex": 2, "pattern": 0}
 _MM_MAX_INTEGER_DIGITS = 300  # beyond this an integer entry cannot be a finite double
 
 
@@ -256,6 +257,9 @@ def _sparse_from_arrays(arrays: dict, field: str, name: str) -> scipy.sparse.csr
     if fmt_arr.dtype.kind != "S" or fmt_arr.size != 1:
         raise InputError(field, f"{name}: 'format' must name the sparse format")
     fmt = fmt_arr.reshape(-1)[0].decode("ascii", "replace")
+    if fmt not in ("csr", "csc", "coo"):
+        raise InputError(field, f"{name}: sparse format {fmt!r} is not supported",
+                         expected="csr, csc or coo (convert with .tocsr() before save_npz)")
     if shape_arr.dtype.kind not in "iu" or shape_arr.shape != (2,):
         raise InputError(field, f"{name}: 'shape' must hold two integers")
     data = arrays["data"]
@@ -270,7 +274,7 @@ def _sparse_from_arrays(arrays: dict, field: str, name: str) -> scipy.sparse.csr
             raise InputError(field, f"{name}: 'indptr' does not describe {data.size} entries of "
                                     f"an order-{n} {fmt} matrix")
         coords = (indices,)
-    elif fmt == "coo":
+    else:
         if "coords" in arrays:
             rc = arrays["coords"]
             if rc.ndim != 2 or rc.shape[0] != 2 or rc.dtype.kind not in "iu":
@@ -281,9 +285,6 @@ def _sparse_from_arrays(arrays: dict, field: str, name: str) -> scipy.sparse.csr
                       _integer_vector(arrays, "col", field, name))
         if any(c.size != data.size for c in coords):
             raise InputError(field, f"{name}: row and column arrays must match 'data' in length")
-    else:
-        raise InputError(field, f"{name}: sparse format {fmt!r} is not supported",
-                         expected="csr, csc or coo (convert with .tocsr() before save_npz)")
     for c in coords:
         if c.size and (c.min() < 0 or c.max() >= n):
             raise InputError(field, f"{name}: an index lies outside 0..{n - 1}")
@@ -355,18 +356,6 @@ def _mm_data_lines(lines: list[str], start: int):
             yield i + 1, text
 
 
-def _mm_value(groups: tuple, kind: str, field: str, line: int) -> complex | float:
-    if kind == "pattern":
-        return 1.0
-    if kind == "integer":
-        if len(groups[0].lstrip("+-")) > _MM_MAX_INTEGER_DIGITS:
-            raise InputError(field, "an integer entry is too large for a double", line=line)
-        return float(int(groups[0]))
-    if kind == "real":
-        return read_float(groups[0], field, line)
-    return complex(read_float(groups[0], field, line), read_float(groups[1], field, line))
-
-
 def _mm_bad_line(text: str, line: int, expected: str, field: str) -> InputError:
     shown = text.strip()
     shown = shown if len(shown) <= 60 else shown[:57] + "..."
@@ -381,7 +370,8 @@ def _read_matrix_market(data: bytes, field: str, name: str):
     body = _mm_data_lines(lines, 1)
     size = next(body, None)
     if size is None:
-        raise InputError(field, "the size line is missing", line=len(lines))
+        last = max((i for i, t in enumerate(lines) if t.strip()), default=0) + 1
+        raise InputError(field, "the size line is missing", line=last)
     size_line, size_text = size
     want = 3 if fmt == "coordinate" else 2
     words = size_text.split()
@@ -395,48 +385,19 @@ def _read_matrix_market(data: bytes, field: str, name: str):
     expected = {"real": "ROW COLUMN VALUE", "integer": "ROW COLUMN INTEGER", "pattern": "ROW COLUMN",
                 "complex": "ROW COLUMN REAL IMAG"}[kind]
     if fmt == "array":
-        pattern = re.compile(r"[ \t]*" + _MM_VALUE[kind] + _MM_END)
         count = {"general": n * n, "symmetric": n * (n + 1) // 2, "hermitian": n * (n + 1) // 2,
                  "skew-symmetric": n * (n - 1) // 2}[symmetry]
-        values = np.empty(count, dtype=dtype)
-        k, last = 0, size_line
-        for line_no, text in body:
-            m = pattern.fullmatch(text)
-            if m is None:
-                raise _mm_bad_line(text, line_no, expected.split(" ", 2)[-1], field)
-            if k == count:
-                raise InputError(field, f"more than the {count} values the size line announces",
-                                 line=line_no)
-            values[k] = _mm_value(m.groups(), kind, field, line_no)
-            k, last = k + 1, line_no
-        if k != count:
-            raise InputError(field, f"the size line announces {count} values, the file holds {k}",
-                             line=last)
+        line_re = r"[ \t]*" + _MM_VALUE[kind] + _MM_END
+        lines_at, columns = _mm_columns(lines, body, size_line, line_re, _MM_GROUPS[kind], count,
+                                        "values", expected.split(" ", 2)[-1], field)
+        values = _mm_values(columns, kind, lines_at, field)
         return _mm_dense(values, n, symmetry, dtype, field)
-    pattern = re.compile(_MM_INDEX + ("" if kind == "pattern" else r"[ \t]+" + _MM_VALUE[kind])
-                         + _MM_END)
-    r_idx = np.empty(nnz, dtype=np.int64)
-    c_idx = np.empty(nnz, dtype=np.int64)
-    values = np.empty(nnz, dtype=dtype)
-    k, last = 0, size_line
-    for line_no, text in body:
-        m = pattern.fullmatch(text)
-        if m is None:
-            raise _mm_bad_line(text, line_no, expected, field)
-        if k == nnz:
-            raise InputError(field, f"more than the {nnz} entries the size line announces",
-                             line=line_no)
-        i, j = int(m.group(1)), int(m.group(2))
-        if not (1 <= i <= n and 1 <= j <= n):
-            raise InputError(field, f"entry ({i}, {j}) lies outside the {n}x{n} matrix",
-                             line=line_no)
-        v = _mm_value(m.groups()[2:], kind, field, line_no)
-        _mm_check_triangle(i, j, v, symmetry, field, line_no)
-        r_idx[k], c_idx[k], values[k] = i - 1, j - 1, v
-        k, last = k + 1, line_no
-    if k != nnz:
-        raise InputError(field, f"the size line announces {nnz} entries, the file holds {k}",
-                         line=last)
+    line_re = _MM_INDEX + ("" if kind == "pattern" else r"[ \t]+" + _MM_VALUE[kind]) + _MM_END
+    lines_at, columns = _mm_columns(lines, body, size_line, line_re, 2 + _MM_GROUPS[kind], nnz,
+                                    "entries", expected, field)
+    r_idx, c_idx = (_mm_indices(c, n, lines_at, field) for c in columns[:2])
+    values = _mm_values(columns[2:], kind, lines_at, field)
+    _mm_check_triangle(r_idx, c_idx, values, symmetry, lines_at, field)
     if symmetry != "general":
         off = r_idx != c_idx
         mirror = {"symmetric": values[off], "skew-symmetric": -values[off],
@@ -448,17 +409,89 @@ def _read_matrix_market(data: bytes, field: str, name: str):
     return mat
 
 
-def _mm_check_triangle(i: int, j: int, v, symmetry: str, field: str, line: int) -> None:
+def _mm_columns(lines: list[str], body, size_line: int, line_re: str, groups: int, count: int,
+                what: str, expected: str, field: str) -> tuple[np.ndarray, list]:
+    """Return (line numbers, one sequence of matched strings per group) of the data lines.
+
+    Fast path: when the lines after the size line hold nothing but entries, one regular
+    expression checks them all at once and str.split cuts the tokens. Otherwise (comments,
+    blank lines, or an error to locate) every line is matched on its own.
+    """
+    rest = lines[size_line:]
+    while rest and not rest[-1].strip():
+        rest = rest[:-1]
+    plain = line_re.replace("(?:", "\0").replace("(", "(?:").replace("\0", "(?:")
+    if len(rest) == count and re.fullmatch(rf"(?:{plain}\n)*(?:{plain})?", "\n".join(rest)):
+        tokens = "\n".join(rest).split()
+        if len(tokens) == count * groups:
+            lines_at = np.arange(size_line + 1, size_line + 1 + count, dtype=np.int64)
+            return lines_at, [tokens[g::groups] for g in range(groups)]
+    entries = list(body)
+    if len(entries) > count:
+        raise InputError(field, f"more than the {count} {what} the size line announces",
+                         line=entries[count][0])
+    if len(entries) < count:
+        raise InputError(field, f"the size line announces {count} {what}, the file holds "
+                                f"{len(entries)}", line=entries[-1][0] if entries else size_line)
+    pattern = re.compile(line_re)
+    matches = [pattern.fullmatch(text) for _, text in entries]
+    for (line_no, text), m in zip(entries, matches):
+        if m is None:
+            raise _mm_bad_line(text, line_no, expected, field)
+    lines_at = np.fromiter((line_no for line_no, _ in entries), dtype=np.int64, count=len(entries))
+    return lines_at, [[m.group(g + 1) for m in matches] for g in range(groups)]
+
+
+def _mm_indices(column: tuple, n: int, lines_at: np.ndarray, field: str) -> np.ndarray:
+    """Return 0-based indices of a column of 1-based index strings, each within 1..n."""
+    too_long = [i for i, s in enumerate(column) if len(s) > 18]
+    if too_long:
+        raise InputError(field, f"an index lies outside the {n}x{n} matrix", line=int(lines_at[too_long[0]]))
+    idx = np.array(column, dtype=np.int64)
+    bad = (idx < 1) | (idx > n)
+    if bad.any():
+        raise InputError(field, f"an index lies outside the {n}x{n} matrix",
+                         line=int(lines_at[np.argmax(bad)]))
+    return idx - 1
+
+
+def _mm_values(columns: list, kind: str, lines_at: np.ndarray, field: str) -> np.ndarray:
+    """Return the entry values of the matched value columns (ones for a pattern file)."""
+    if kind == "pattern":
+        return np.ones(lines_at.size)
+    parts = []
+    for column in columns:
+        if kind == "integer":
+            long = [i for i, s in enumerate(column) if len(s.lstrip("+-")) > _MM_MAX_INTEGER_DIGITS]
+            if long:
+                raise InputError(field, "an integer entry is too large for a double",
+                                 line=int(lines_at[long[0]]))
+        elif any(("d" in s or "D" in s) for s in column):
+            column = [s.replace("d", "e").replace("D", "e") for s in column]
+        # the strings were matched by the patterns, so numpy reads each exactly as float() would
+        part = np.array(column, dtype=np.float64)
+        bad = ~np.isfinite(part)
+        if bad.any():
+            raise InputError(field, "a value is too large: it overflows to infinity",
+                             line=int(lines_at[np.argmax(bad)]))
+        parts.append(part)
+    return parts[0] + 1j * parts[1] if kind == "complex" else parts[0]
+
+
+def _mm_check_triangle(rows, cols, values, symmetry: str, lines_at, field: str) -> None:
     """Refuse entries a symmetric, skew-symmetric or Hermitian file may not store [1]_."""
     if symmetry == "general":
         return
-    if i < j:
-        raise InputError(field, f"a {symmetry} file stores only the lower triangle; entry "
-                                f"({i}, {j}) lies above the diagonal", line=line)
-    if i == j and symmetry == "skew-symmetric" and v != 0:
-        raise InputError(field, "a skew-symmetric matrix has a zero diagonal", line=line)
-    if i == j and symmetry == "hermitian" and complex(v).imag != 0:
-        raise InputError(field, "a Hermitian matrix has a real diagonal", line=line)
+    checks = [(rows < cols, f"a {symmetry} file stores only the lower triangle; an entry lies "
+                            f"above the diagonal")]
+    diagonal = rows == cols
+    if symmetry == "skew-symmetric":
+        checks.append((diagonal & (values != 0), "a skew-symmetric matrix has a zero diagonal"))
+    if symmetry == "hermitian":
+        checks.append((diagonal & (np.imag(values) != 0), "a Hermitian matrix has a real diagonal"))
+    for bad, message in checks:
+        if bad.any():
+            raise InputError(field, message, line=int(lines_at[np.argmax(bad)]))
 
 
 def _mm_dense(values: np.ndarray, n: int, symmetry: str, dtype, field: str) -> np.ndarray:

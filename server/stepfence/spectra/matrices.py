@@ -11,6 +11,9 @@ References
    (shift-invert spectral transformation).
 .. [2] R. S. Varga, "Gershgorin and His Circles", Springer 2004, ch. 1.
 .. [3] E. E. Osborne, "On pre-conditioning of matrices", J. ACM 7 (1960) 338-345.
+.. [4] C. R. Johnson, "Numerical determination of the field of values of a general complex
+   matrix", SIAM J. Numer. Anal. 15 (1978) 595-602.
+(Chapter and page numbers from memory.)
 """
 from __future__ import annotations
 
@@ -42,12 +45,20 @@ NON_NORMAL_RTOL = 1e-8          # ||AA^H - A^HA||_F / ||A||_F^2 above this earns
 NORMALITY_CHECK_MAX_NNZ = 2_000_000
 SINGULAR_MASS_FACTOR = 100.0    # |beta| <= this * N * eps * ||M||_F: M numerically singular
 DEDUPE_RTOL = 1e-10             # the same eigenvalue found in two directions, relative to scale
-SHIFT_OFFSET = 1e-7             # shifts sit this far (relative) outside the extreme they aim at
+SHIFT_OFFSET = 1e-7             # shifts sit this far (relative) outside the point they aim at
 PROBE_COUNT = 4
-PROBE_MAXITER = 60
-FULL_MAXITER = 300
-ROUGH_TOL = 1e-2                # a rough regular-mode extreme, to aim the shift when Gershgorin is loose
-REFINE_ROUNDS = 2
+ROUGH_TOL = 1e-2                # rough extremes, only to aim a shift when Gershgorin is loose
+REFINE_ROUNDS = 3
+# ARPACK's cost per restart is about N * ncv^2 flops; maxiter is set from these budgets so that
+# a direction that does not converge gives up in seconds rather than minutes.
+PROBE_WORK = 3e8
+FULL_WORK = 3e10
+RESTART_WORK = 3e9              # caps the eigenvalues sought per direction: N (2k + 1)^2 <= this
+ROUGH_WORK = 2e8
+# One BLAS thread for ARPACK too: k = 64 shift-invert at N = 20000 took 1.3 s with one thread
+# and 10.7 s with two on a loaded 2-core machine (orthogonalisation of short vectors).
+ARPACK_THREADS = 1
+PERRON_ITERATIONS = 100
 # Shift-invert needs an LU factor of K - sigma M. With a reverse Cuthill-McKee ordering and no
 # column reordering the factor stays inside the band, so N * (3 * bandwidth + 1) bounds its
 # size; admit it up to this many entries. Beyond, COLAMD is tried up to
@@ -55,7 +66,7 @@ REFINE_ROUNDS = 2
 # entries), and larger problems use ARPACK's regular mode within REGULAR_MODE_WORK flops.
 SHIFT_INVERT_MAX_FILL = 30_000_000
 SHIFT_INVERT_COLAMD_MAX_N = 100_000
-REGULAR_MODE_WORK = 2e10
+REGULAR_MODE_WORK = 3e10
 
 PARTIAL_NOTE = (
     "partial spectrum: only the extreme eigenvalues in the directions {directions} were "
@@ -224,39 +235,39 @@ def _row_disks(absA, diag: np.ndarray, d: np.ndarray) -> np.ndarray:
     return np.asarray(absA @ d).ravel() / d - np.abs(diag)
 
 
-def _osborne_scaling(absA, diag: np.ndarray, sweeps: int = 6) -> np.ndarray:
-    """Return powers of two d that roughly balance row and column sums of |D^-1 A D| [3]_."""
-    n = diag.size
-    off_abs = np.abs(diag)
-    d = np.ones(n)
-    for _ in range(sweeps):
-        rows = np.asarray(absA @ d).ravel() / d - off_abs
-        cols = np.asarray(absA.T @ (1.0 / d)).ravel() * d - off_abs
-        ok = (rows > 0) & (cols > 0)
-        if not ok.any():
-            break
-        # why powers of two: the similarity then changes no entry by rounding
-        f = np.ones(n)
-        f[ok] = 2.0 ** np.round(0.5 * np.log2(rows[ok] / cols[ok]))
-        if np.all(f == 1):
-            break
-        d *= f
-    return d
+def _perron_scaling(off_abs, iterations: int = PERRON_ITERATIONS) -> np.ndarray:
+    """Return an approximate Perron vector of |A| off the diagonal, as scaling factors d.
+
+    With d the Perron vector every row disk of D^-1 A D has radius rho(|offdiag A|), the least
+    largest radius any diagonal similarity achieves (Varga [2]_, ch. 1). Power iteration on
+    I + |offdiag A| converges for any pattern; fewer iterations only loosen the disks, which
+    stay valid for every positive d.
+    """
+    d = np.ones(off_abs.shape[0])
+    for _ in range(iterations):
+        d = d + np.asarray(off_abs @ d).ravel()
+        d /= d.max()
+    return np.maximum(d, 1e-150)
+
+
+def _disk_extent(centers: np.ndarray, radii: np.ndarray) -> tuple[float, float]:
+    return float(np.max(np.abs(centers) + radii)), float(radii.sum())
 
 
 def gershgorin_disks(A, scaled: bool = True) -> tuple[np.ndarray, np.ndarray]:
     """Return the centres and radii of the row Gershgorin disks of A [2]_.
 
     Every eigenvalue of A lies in the union of the disks |z - a_ii| <= sum_{j != i} |a_ij|,
-    and also in that of any diagonal similarity D^-1 A D.
+    and also in that of any diagonal similarity D^-1 A D, which has the same centres.
 
     Parameters
     ----------
     A : ndarray or scipy.sparse matrix, shape (N, N)
     scaled : bool
-        Tighten by a diagonal similarity: LAPACK balancing (scipy.linalg.matrix_balance) for
-        dense A, a few sweeps of Osborne's balancing [3]_ for sparse A. The scaled disks are
-        kept only if their farthest point from the origin is no farther than unscaled.
+        Tighten by a diagonal similarity: the approximate Perron vector of |A| off the
+        diagonal (dense and sparse), and for dense A also LAPACK's balancing
+        (scipy.linalg.matrix_balance [3]_). The candidate whose disks reach least far from
+        the origin is kept, the unscaled disks included, so scaling never loosens the bound.
 
     Returns
     -------
@@ -266,17 +277,20 @@ def gershgorin_disks(A, scaled: bool = True) -> tuple[np.ndarray, np.ndarray]:
     A = _checked_matrix(A, "matrix")
     diag = A.diagonal().astype(np.complex128)
     absA = abs(A)
-    radii = np.maximum(_row_disks(absA, diag, np.ones(diag.size)), 0.0)
-    if not scaled or diag.size == 1:
-        return diag, radii
-    if scipy.sparse.issparse(A):
-        d = _osborne_scaling(absA, diag)
-    else:
-        _, (d, _) = scipy.linalg.matrix_balance(A, permute=False, separate=True)
-    tight = np.maximum(_row_disks(absA, diag, d), 0.0)
-    if np.max(np.abs(diag) + tight) <= np.max(np.abs(diag) + radii):
-        return diag, tight
-    return diag, radii
+    ones = np.ones(diag.size)
+    best = np.maximum(_row_disks(absA, diag, ones), 0.0)
+    if not scaled or diag.size == 1 or not best.any():
+        return diag, best
+    off_abs = absA - scipy.sparse.diags(np.abs(diag)) if scipy.sparse.issparse(A) \
+        else absA - np.diag(np.abs(diag))
+    scalings = [_perron_scaling(off_abs)]
+    if not scipy.sparse.issparse(A):
+        scalings.append(scipy.linalg.matrix_balance(A, permute=False, separate=True)[1][0])
+    for d in scalings:
+        radii = np.maximum(_row_disks(absA, diag, d), 0.0)
+        if np.all(np.isfinite(radii)) and _disk_extent(diag, radii) < _disk_extent(diag, best):
+            best = radii
+    return diag, best
 
 
 # --- sparse extremes -------------------------------------------------------------------
@@ -319,19 +333,30 @@ def _v0(n: int, dtype) -> np.ndarray:
     return v.astype(dtype)
 
 
-def _arpack(op, k: int, which: str, hermitian: bool, maxiter: int, tol: float = 0.0):
-    """Return (eigenvalues, converged) of ARPACK on op, keeping what converged on failure."""
+def _arpack(op, k: int, which: str, hermitian: bool, work: float, tol: float = 0.0,
+            vectors: bool = False):
+    """Return (eigenvalues, converged[, vectors]) of ARPACK on op within about `work` flops.
+
+    What converged is kept when ARPACK stops early; nothing is raised.
+    """
     n = op.shape[0]
     solver = scipy.sparse.linalg.eigsh if hermitian else scipy.sparse.linalg.eigs
     k = min(k, n - 1 if hermitian else n - 2)
+    ncv = min(n, max(2 * k + 1, 20))
+    maxiter = int(np.clip(work / (n * ncv * ncv), 3, 1000))
+    empty = np.empty(0, dtype=np.complex128)
     try:
-        vals = solver(op, k=k, which=which, tol=tol, maxiter=maxiter, v0=_v0(n, op.dtype),
-                      return_eigenvectors=False)
-        return np.asarray(vals, dtype=np.complex128), True
+        with threadpool_limits(limits=ARPACK_THREADS):
+            out = solver(op, k=k, which=which, tol=tol, maxiter=maxiter, ncv=ncv,
+                         v0=_v0(n, op.dtype), return_eigenvectors=vectors)
+        ok = True
     except scipy.sparse.linalg.ArpackNoConvergence as e:
-        return np.asarray(e.eigenvalues, dtype=np.complex128), False
+        out, ok = ((e.eigenvalues, e.eigenvectors) if vectors else e.eigenvalues), False
     except scipy.sparse.linalg.ArpackError:
-        return np.empty(0, dtype=np.complex128), False
+        out, ok = ((empty, None) if vectors else empty), False
+    if vectors:
+        return np.asarray(out[0], dtype=np.complex128), ok, out[1]
+    return np.asarray(out, dtype=np.complex128), ok
 
 
 class _Problem:
@@ -343,7 +368,7 @@ class _Problem:
         self.hermitian = M is None and is_hermitian(K)
         self._mass_factor = None
 
-    def near(self, sigma: complex, k: int, maxiter: int) -> tuple[np.ndarray, bool] | None:
+    def near(self, sigma: complex, k: int, work: float) -> tuple[np.ndarray, bool] | None:
         """Return the eigenvalues nearest sigma by shift-invert [1]_, or None without a factor."""
         real_shift = self.real and sigma.imag == 0
         shift = sigma.real if real_shift else sigma
@@ -357,28 +382,56 @@ class _Problem:
         op = scipy.sparse.linalg.LinearOperator(
             (self.n, self.n), dtype=dtype,
             matvec=lambda x: factor.solve(np.asarray(x if mass is None else mass @ x, dtype=dtype)))
-        mu, ok = _arpack(op, k, "LM", self.hermitian and real_shift, maxiter)
+        mu, ok = _arpack(op, k, "LM", self.hermitian and real_shift, work)
         mu = mu[mu != 0]
         return shift + 1.0 / mu, ok
 
-    def regular(self, k: int, which: str, tol: float, work: float) -> tuple[np.ndarray, bool]:
-        """Return extreme eigenvalues by ARPACK's regular mode within about `work` flops."""
-        ncv = min(self.n, max(2 * k + 1, 20))
-        maxiter = int(np.clip(work / (self.n * ncv * ncv), 3, 1000))
+    def _operator(self):
+        """Return M^-1 K as something ARPACK can multiply by, or None if M cannot be factored."""
         if self.M is None:
-            op = self.K
-        else:
-            if self._mass_factor is None:
-                self._mass_factor = _factor(self.M)
-            if self._mass_factor is None:
-                return np.empty(0, dtype=np.complex128), False
-            f, K = self._mass_factor, self.K
-            op = scipy.sparse.linalg.LinearOperator(
-                (self.n, self.n), dtype=np.result_type(K.dtype, self.M.dtype),
-                matvec=lambda x: f.solve(K @ x))
-        if self.hermitian:
-            which = {"SR": "SA", "LR": "LA"}.get(which, which)
-        return _arpack(op, k, which, self.hermitian, maxiter, tol)
+            return self.K
+        if self._mass_factor is None:
+            self._mass_factor = _factor(self.M)
+        if self._mass_factor is None:
+            return None
+        f, K = self._mass_factor, self.K
+        return scipy.sparse.linalg.LinearOperator(
+            (self.n, self.n), dtype=np.result_type(K.dtype, self.M.dtype),
+            matvec=lambda x: f.solve(K @ x))
+
+    def regular(self, k: int, direction: str, tol: float, work: float) -> tuple[np.ndarray, bool]:
+        """Return extreme eigenvalues by ARPACK's regular mode within about `work` flops."""
+        op = self._operator()
+        if op is None:
+            return np.empty(0, dtype=np.complex128), False
+        which = {"SR": "SA", "LR": "LA"}.get(direction, direction) if self.hermitian else direction
+        if self.real and not self.hermitian and direction == "SI":
+            which = "LI"  # for real matrices ARPACK's LI and SI mean largest and smallest |imag|
+        return _arpack(op, k, which, self.hermitian, work, tol)
+
+    def rough_aim(self, direction: str) -> complex | None:
+        """Return a point near the extreme in the direction, to aim a shift when disks are loose.
+
+        For a standard problem and a half-plane direction u, the extreme point of the numerical
+        range {v*Kv : |v| = 1} in that direction is v*Kv for v the top eigenvector of the
+        Hermitian matrix (conj(u) K + u K*)/2 (Johnson's construction [4]_); it is exact for a
+        normal K and lies beyond the eigenvalues otherwise. Else a rough regular-mode extreme.
+        """
+        if self.M is None and direction != "LM":
+            u = _outward(direction, 0)
+            H = (np.conj(u) * self.K + u * self.K.conj().T) * 0.5
+            if self.real and u.imag == 0:
+                H = H.real
+            _, _, v = _arpack(H, 1, "LA", True, ROUGH_WORK, ROUGH_TOL, vectors=True)
+            if v is not None and v.size:
+                v = v[:, 0]
+                return complex(np.vdot(v, self.K @ v) / np.vdot(v, v))
+            return None
+        rough, _ = self.regular(1, direction, ROUGH_TOL, ROUGH_WORK)
+        if rough.size == 0:
+            return None
+        theta = complex(rough[np.argmax(_score(rough, direction))])
+        return theta * (1 + ROUGH_TOL) if direction == "LM" else theta
 
 
 _SCORES = {"LM": np.abs, "SR": lambda v: -v.real, "LR": lambda v: v.real,
@@ -407,35 +460,51 @@ def _gershgorin_point(centers: np.ndarray, radii: np.ndarray, direction: str) ->
 
 
 def _extreme(problem: _Problem, direction: str, aim: complex, k: int, scale: float):
-    """Return (eigenvalues near the extreme in direction, converged) by shift-invert."""
-    offset = SHIFT_OFFSET * scale
-    found = np.empty(0, dtype=np.complex128)
-    sigma = aim + offset * _outward(direction, aim)
-    probe = problem.near(sigma, PROBE_COUNT, PROBE_MAXITER)
-    if probe is None:
-        return None
-    if probe[0].size == 0:
-        # the disks are loose and the extremes clustered: aim at a rough regular-mode extreme
-        rough, _ = problem.regular(1, direction, ROUGH_TOL, REGULAR_MODE_WORK / 10)
-        if rough.size == 0:
-            return found, False
-        theta = rough[np.argmax(_score(rough, direction))]
-        sigma = theta + ROUGH_TOL * max(abs(theta), 1e-6 * scale) * _outward(direction, theta)
-        probe = problem.near(sigma, PROBE_COUNT, FULL_MAXITER)
-        if probe is None or probe[0].size == 0:
-            return found, False
-    found = probe[0]
-    converged = False
+    """Return (eigenvalues near the extreme in the direction, status), or None if the problem
+    is too large to factor for shift-invert.
+
+    status is "converged"; "partial" (ARPACK stopped early, what converged is kept); "moving"
+    (the extreme still moved outward when the search stopped); or "failed" (nothing found).
+    """
+
+    # Just outside the point, relative to its own size (an eigenvalue at 0 next to one at -10
+    # must not look clustered from a shift 1e-7 * ||A|| away) and below 1/N^2: the extremes of
+    # a discretised operator of order N lie about |lambda| / N^2 apart.
+    rel = min(SHIFT_OFFSET, 1.0 / problem.n ** 2)
+
+    least = 1e3 * np.finfo(float).eps * scale  # closer, rounding in the factor would hide the gap
+
+    def beside(point: complex) -> complex:
+        return point + max(rel * abs(point), least) * _outward(direction, point)
+
+    found = None
+    for attempt in range(2):
+        if attempt == 1:
+            # the disks are loose and the extremes clustered: aim nearer, then probe again
+            aim = problem.rough_aim(direction)
+            if aim is None:
+                break
+        probe = problem.near(beside(aim), PROBE_COUNT, PROBE_WORK)
+        if probe is None:
+            return None
+        if probe[0].size:
+            found = probe[0]
+            break
+    if found is None:
+        return np.empty(0, dtype=np.complex128), "failed"
+    status = "moving"
     for _ in range(REFINE_ROUNDS):
-        theta = found[np.argmax(_score(found, direction))]
-        sigma = theta + offset * _outward(direction, theta)
-        full = problem.near(sigma, k, FULL_MAXITER)
+        theta = complex(found[np.argmax(_score(found, direction))])
+        sigma = beside(theta)
+        full = problem.near(sigma, k, FULL_WORK)
         if full is None:
             break
-        found, converged = np.concatenate([found, full[0]]), full[1]
-        if _score(found, direction).max() <= _score(np.array([theta]), direction)[0] + offset:
-            break  # the extreme did not move: the shift already sat beside it
-    return found, converged
+        found = np.concatenate([found, full[0]])
+        if _score(found, direction).max() <= _score(np.array([sigma]), direction)[0]:
+            # nothing lies beyond the shift: it sat beside the extreme
+            status = "converged" if full[1] else "partial"
+            break
+    return found, status
 
 
 def _dedupe(values: np.ndarray, tol: float) -> np.ndarray:
@@ -460,7 +529,7 @@ def _lumped_disks(K, M) -> tuple[np.ndarray, np.ndarray]:
 def _sparse_extremes(K, M, k: int, which: tuple[str, ...], field: str, mass_field: str):
     """Return (values, notes, hermitian) of extreme eigenvalues of a large sparse problem."""
     problem = _Problem(K, M)
-    if M is not None and _factor(M) is None:
+    if M is not None and problem._operator() is None:
         raise InputError(mass_field, "the mass matrix M cannot be factored within the memory "
                                      "bound, or it is singular (algebraic constraints, not an ODE)")
     centers, radii = gershgorin_disks(K) if M is None else _lumped_disks(K, M)
@@ -474,17 +543,32 @@ def _sparse_extremes(K, M, k: int, which: tuple[str, ...], field: str, mass_fiel
         directions = tuple(which)
     pieces, notes = [], []
     for d in directions:
-        got = _extreme(problem, d, _gershgorin_point(centers, radii, d), k, scale)
+        aim = _gershgorin_point(centers, radii, d)
+        if M is not None:
+            # lumped-mass disks enclose nothing: aim at whichever guess lies farther out
+            rough = problem.rough_aim(d)
+            if rough is not None and _score(np.array([rough]), d)[0] > _score(np.array([aim]), d)[0]:
+                aim = rough
+        got = _extreme(problem, d, aim, k, scale)
         if got is None:
-            got = problem.regular(k, d, 0.0, REGULAR_MODE_WORK)
-            if not got[1]:
+            values, ok = problem.regular(k, d, 0.0, REGULAR_MODE_WORK)
+            if not ok:
                 notes.append(f"the matrix is too large to factor for shift-invert, and ARPACK's "
                              f"regular mode did not converge for the {DIRECTIONS[d]} direction "
-                             f"within its work bound: {got[0].size} eigenvalue(s) kept there")
-        elif not got[1]:
-            notes.append(f"ARPACK did not fully converge for the {DIRECTIONS[d]} direction; "
-                         f"the {got[0].size} eigenvalue(s) that did are kept")
-        pieces.append(got[0])
+                             f"within its work bound: {values.size} eigenvalue(s) kept there")
+        else:
+            values, status = got
+            if status in ("partial", "failed"):
+                notes.append(f"ARPACK did not fully converge for the {DIRECTIONS[d]} direction; "
+                             f"the {values.size} eigenvalue(s) that did are kept")
+            elif status == "moving":
+                bound = _gershgorin_point(centers, radii, d) if M is None else None
+                where = "" if bound is None else (
+                    f" (the Gershgorin disks reach {bound.real:.6g}{bound.imag:+.6g}i)")
+                notes.append(f"the search for the {DIRECTIONS[d]} stopped while the extreme was "
+                             f"still moving outward: eigenvalues farther out may be missing"
+                             f"{where}, and a step limit from these values can be too large")
+        pieces.append(values)
     values = np.concatenate(pieces) if pieces else np.empty(0, dtype=np.complex128)
     if problem.real and values.size:
         values = np.concatenate([values, np.conj(values)])
@@ -583,7 +667,12 @@ def eigenvalues_of(A, M=None, method: str = "auto", partial_count: int = 64,
     if K.nnz == 0:
         return Spectrum(np.zeros(n), source=f"{what} (sparse, N={n}, all zero)")
     Ms = None if M is None else scipy.sparse.csr_matrix(M)
-    values, more, hermitian = _sparse_extremes(K, Ms, k, which, field, mass_field)
+    k_cap = max(8, int((np.sqrt(RESTART_WORK / n) - 1) / 2))
+    capped = k > k_cap
+    values, more, hermitian = _sparse_extremes(K, Ms, min(k, k_cap), which, field, mass_field)
+    if capped:
+        more.insert(0, f"at N={n}, {k_cap} eigenvalues per direction were sought instead of "
+                       f"{k}, to bound the time ARPACK takes")
     if hermitian:
         first = HERMITIAN_PARTIAL_NOTE.format(count=values.size, n=n)
     else:
@@ -591,9 +680,9 @@ def eigenvalues_of(A, M=None, method: str = "auto", partial_count: int = 64,
         if K.dtype.kind != "c" and searched & {"LI", "SI"}:
             searched |= {"LI", "SI"}  # conjugate pairs: one imaginary end gives the other
         unsearched = [DIRECTIONS[d] for d in DIRECTIONS if d not in searched]
-        tail = (", and the directions " + ", ".join(unsearched) + " were not searched, so an "
-                "eigenvalue there (one with positive real part, say) would go unnoticed"
-                ) if unsearched else ""
+        tail = ("; no search was made for the " + " or the ".join(unsearched) + ", so an "
+                "eigenvalue found only there (one with positive real part, say) would go "
+                "unnoticed") if unsearched else ""
         first = PARTIAL_NOTE.format(directions=", ".join(DIRECTIONS[d] for d in which),
                                     count=values.size, n=n, unsearched=tail)
     notes = [first, *more]

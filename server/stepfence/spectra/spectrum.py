@@ -202,7 +202,7 @@ def from_frequencies(omegas, unit: str = "rad/s", field: str = "frequencies") ->
         first = int(np.flatnonzero(bad)[0])
         raise InputError(field, f"{int(bad.sum())} frequencies are negative or not finite, the "
                                 f"first at index {first}")
-    pairs = np.column_stack([1j * omega, -1j * omega])
-    values = np.concatenate([[1j * w, -1j * w] if w > 0 else [0j] for w in omega]) \
-        if (omega == 0).any() else pairs.ravel()
+    pairs = np.column_stack([1j * omega, -1j * omega]).ravel()
+    # a zero frequency is one eigenvalue 0, not two
+    values = pairs[np.repeat(omega > 0, 2) | np.tile([True, False], omega.size)]
     return Spectrum(values, source=f"{arr.size} frequencies ({unit})", notes=(FREQUENCY_CAUTION,))
