@@ -114,3 +114,39 @@ def test_cli_bad_input_exit_2_one_line():
 def test_cli_serve_refuses_remote_host_without_flag():
     r = _cli("serve", "--host", "0.0.0.0")
     assert r.returncode == 2 and "--allow-remote" in r.stderr
+
+
+def test_enclosure_limits():
+    from stepfence.analysis.steplimit import enclosure_limit
+    from stepfence.schemes.catalogue import get_scheme
+    from stepfence.spectra import parse_enclosure
+    rk4 = get_scheme("rk4")
+    # RK4 real extent -2.785293563405 (Hairer & Wanner II, section IV.2; issue text ~ -2.785)
+    r = enclosure_limit(rk4, parse_enclosure({"kind": "real-interval", "lo": -400, "hi": -1}))
+    assert r.h_max == pytest.approx(2.785293563405282 / 400, rel=1e-12)
+    # RK4 imaginary extent 2 sqrt(2): a segment of the imaginary axis of half-length 5
+    r = enclosure_limit(rk4, parse_enclosure({"kind": "imag-segment", "lo": -5, "hi": 5}))
+    assert r.h_max == pytest.approx(2 * np.sqrt(2) / 5, rel=1e-12)
+    # a disk centred at 0 reaches into Re > 0, where no consistent explicit scheme is stable
+    assert enclosure_limit(rk4, parse_enclosure({"kind": "spectral-radius", "rho": 3})).h_max == 0.0
+    # the enclosure limit never exceeds the limit of sampled eigenvalues inside it
+    from stepfence.analysis.steplimit import step_limit
+    ell = parse_enclosure({"kind": "ellipse", "center": [-10, 0], "semi_real": 9, "semi_imag": 4})
+    inside = ell.boundary(64) * 0.999 + (-10) * 0.001
+    assert enclosure_limit(rk4, ell).h_max <= step_limit(rk4, inside).h_max * (1 + 1e-12)
+
+
+def test_cli_snapshots_name_the_binding_one(tmp_path):
+    (tmp_path / "early.txt").write_text("-1\n-30+2j\n")
+    (tmp_path / "late.txt").write_text("-50\n-3+1j\n")
+    r = _cli("limit", "ab3", "--eigs", str(tmp_path / "early.txt"), "--eigs", str(tmp_path / "late.txt"), "--json")
+    assert r.returncode == 0, r.stderr
+    d = json.loads(r.stdout)
+    assert d["binding_snapshot"] == "late.txt"
+    assert d["h_max"] == pytest.approx(6 / 11 / 50, rel=1e-12)  # AB3 interval -6/11 (issue text)
+
+
+def test_cli_accuracy_runs_and_says_which_binds():
+    r = _cli("accuracy", "rk4", "--eigs", "-", "--tol", "1e-6", stdin="-1\n-30+2j\n")
+    assert r.returncode == 0, r.stderr
+    assert "binds" in r.stdout

@@ -68,11 +68,31 @@ def _spectrum_from_args(a):
     if getattr(a, "matrix", None):
         data, name = _read_source(a.matrix, "--matrix")
         mat = spectra.read_matrix_bytes(data, name, field="--matrix")
-        return spectra.eigenvalues_of(mat, field="--matrix"), mat
-    if getattr(a, "eigs", None):
-        data, name = _read_source(a.eigs, "--eigs")
-        return spectra.read_spectrum_bytes(data, name, field="--eigs"), None
-    raise InputError("--eigs", "no spectrum given", expected="--eigs FILE|- or --matrix FILE")
+        mass = None
+        if getattr(a, "mass", None):
+            mdata, mname = _read_source(a.mass, "--mass")
+            mass = spectra.read_matrix_bytes(mdata, mname, field="--mass")
+        return spectra.eigenvalues_of(mat, M=mass, field="--matrix"), mat
+    if getattr(a, "frequencies", None):
+        data, name = _read_source(a.frequencies, "--frequencies")
+        vals = spectra.read_spectrum_bytes(data, name, field="--frequencies").values
+        if np.any(vals.imag != 0):
+            raise InputError("--frequencies", "frequencies must be real numbers")
+        return spectra.from_frequencies(vals.real, unit=a.unit, field="--frequencies"), None
+    eigs = getattr(a, "eigs", None)
+    if eigs:
+        if isinstance(eigs, str):
+            eigs = [eigs]
+        parts = []
+        for path in eigs:
+            data, name = _read_source(path, "--eigs")
+            parts.append(spectra.read_spectrum_bytes(data, name, field="--eigs"))
+        if len(parts) == 1:
+            return parts[0], None
+        return spectra.combine_snapshots(parts, [Path(p).name for p in eigs], field="--eigs"), None
+    raise InputError("--eigs", "no spectrum given",
+                     expected="--eigs FILE|- (repeat for snapshots), --matrix FILE, --frequencies FILE "
+                              "or --enclosure JSON")
 
 
 def _fmt(x):
@@ -122,9 +142,39 @@ def cmd_describe(a) -> int:
     return 0
 
 
+def _enclosure_from_arg(text):
+    from .spectra import parse_enclosure
+    try:
+        obj = json.loads(text)
+    except json.JSONDecodeError as e:
+        raise InputError("--enclosure", f"is not valid JSON: {e.msg}", position=e.pos,
+                         expected='e.g. {"kind": "real-interval", "lo": -400, "hi": 0}') from None
+    return parse_enclosure(obj, field="--enclosure")
+
+
+def cmd_enclosure(a, scheme) -> int:
+    from .report import enclosure_report
+    enc = _enclosure_from_arg(a.enclosure)
+    rep = enclosure_report(scheme, enc, safety=a.safety)
+    if a.json:
+        print(json.dumps(rep, indent=2))
+        return 0
+    print(rep["summary"])
+    print(f"h_max            {_fmt(rep['h_max'])}")
+    if rep["safety"] is not None:
+        print(f"safety x h_max   {_fmt(rep['h_safe'])}   (factor {rep['safety']}, not applied to h_max)")
+    print(f"per evaluation   {_fmt(rep['h_max_per_evaluation'])}  ({rep['evaluations_per_step']} evaluation(s) per step)")
+    for m in rep["messages"]:
+        print(f"note: {m}")
+    print(CAUTION_LINE)
+    return 0
+
+
 def cmd_limit(a) -> int:
     from .report import limit_report
     scheme = _scheme_from_args(a)
+    if a.enclosure:
+        return cmd_enclosure(a, scheme)
     spec, _ = _spectrum_from_args(a)
     rep = limit_report(scheme, spec.values, safety=a.safety, per_eigenvalue=bool(a.per_eigenvalue))
     per = rep.pop("per_eigenvalue", None)
@@ -136,6 +186,8 @@ def cmd_limit(a) -> int:
                 fh.write(f"{lam.real!r},{lam.imag!r},{'inf' if h is None else repr(h)}\n")
     rep["spectrum"] = {"source": spec.source, "count": int(spec.values.size),
                        "partial": bool(spec.partial), "notes": list(spec.notes)}
+    if spec.snapshot is not None and rep["binding_index"] is not None:
+        rep["binding_snapshot"] = spec.snapshot_names[int(spec.snapshot[rep["binding_index"]])]
     if a.json:
         print(json.dumps(rep, indent=2))
         return 0
@@ -149,6 +201,8 @@ def cmd_limit(a) -> int:
         print(f"binding          {re_:.12g}{im_:+.12g}i (index {rep['binding_index']})")
     wins = ", ".join(f"({a_:.10g}, {'inf' if b_ is None else f'{b_:.10g}'}]" for a_, b_ in rep["windows"])
     print(f"stable windows   {wins or 'none'}")
+    if rep.get("binding_snapshot"):
+        print(f"binding snapshot {rep['binding_snapshot']}")
     print(f"spectrum         {spec.source}: {spec.values.size} eigenvalue(s)")
     for m in list(rep["messages"]) + list(spec.notes):
         print(f"note: {m}")
@@ -192,6 +246,25 @@ def _safe(x):
     return x if math.isfinite(x) else None
 
 
+def cmd_accuracy(a) -> int:
+    from .analysis.accuracy_limit import accuracy_report, accuracy_report_text
+    scheme = _scheme_from_args(a)
+    spec, _ = _spectrum_from_args(a)
+    other = None
+    if a.compare:
+        from .specs import scheme_from_spec
+        other = scheme_from_spec(a.compare, "--compare")
+    if a.tol is None or not (0 < a.tol < 1):
+        raise InputError("--tol", "must lie in (0, 1)")
+    rep = accuracy_report(scheme, spec.values, h=a.step, tol=a.tol, per=a.per, other_scheme=other)
+    if a.json:
+        print(json.dumps(rep, indent=2, allow_nan=False))
+        return 0
+    print(accuracy_report_text(rep))
+    print(CAUTION_LINE)
+    return 0
+
+
 def cmd_list(a) -> int:
     from .schemes.catalogue import LISTED, get_scheme
     for n in LISTED:
@@ -228,8 +301,15 @@ def build_parser() -> argparse.ArgumentParser:
     d.set_defaults(fn=cmd_describe)
     lm = sub.add_parser("limit", help="largest stable step of a spectrum")
     _add_scheme_args(lm)
-    lm.add_argument("--eigs", help="eigenvalue file (text, csv, npy, npz) or - for stdin")
+    lm.add_argument("--eigs", action="append",
+                    help="eigenvalue file (text, csv, npy, npz) or - for stdin; repeat for snapshots")
     lm.add_argument("--matrix", help="matrix file (MatrixMarket .mtx, csv, npy)")
+    lm.add_argument("--mass", help="mass matrix file: M u' = J u")
+    lm.add_argument("--frequencies", help="file of oscillation frequencies, mapped to +-i omega")
+    lm.add_argument("--unit", default="rad/s", help="frequency unit: rad/s or Hz")
+    lm.add_argument("--enclosure", help='JSON enclosure, e.g. {"kind": "real-interval", "lo": -400, "hi": 0}, '
+                    '{"kind": "disk", "center": [-50, 0], "radius": 50}, {"kind": "imag-segment", "lo": -5, "hi": 5}, '
+                    '{"kind": "ellipse", "center": [-10, 0], "semi_real": 10, "semi_imag": 2}')
     lm.add_argument("--safety", type=float, help="factor shown beside h_max, e.g. 0.9")
     lm.add_argument("--per-eigenvalue", metavar="FILE", help="write per-eigenvalue limits as CSV")
     lm.set_defaults(fn=cmd_limit)
@@ -240,6 +320,15 @@ def build_parser() -> argparse.ArgumentParser:
     v.add_argument("--step", type=float, help="step size h")
     v.add_argument("--steps", type=int, default=200)
     v.set_defaults(fn=cmd_verify)
+    ac = sub.add_parser("accuracy", help="amplitude/phase error and the accuracy-limited step")
+    _add_scheme_args(ac)
+    ac.add_argument("--eigs", action="append", help="eigenvalue file or - for stdin")
+    ac.add_argument("--matrix", help="matrix file (MatrixMarket .mtx, csv, npy)")
+    ac.add_argument("--step", type=float, help="the step h to report damping and phase at")
+    ac.add_argument("--tol", type=float, default=1e-6, help="local error tolerance (default 1e-6)")
+    ac.add_argument("--per", choices=("step", "unit-time"), default="step")
+    ac.add_argument("--compare", help="a second catalogue scheme to compare per evaluation")
+    ac.set_defaults(fn=cmd_accuracy)
     ls = sub.add_parser("list", help="list the catalogue")
     ls.set_defaults(fn=cmd_list)
     return p

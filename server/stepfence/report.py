@@ -15,7 +15,7 @@ from . import polytext
 from .analysis.accuracy import Accuracy, accuracy
 from .analysis.region import boundary_locus, region_metrics, region_raster, view_box
 from .analysis.roots import root_condition
-from .analysis.steplimit import StepLimit, step_limit
+from .analysis.steplimit import StepLimit, enclosure_limit, step_limit
 from .schemes.base import Scheme, poly_text
 
 CAUTIONS = (
@@ -140,6 +140,30 @@ def limit_report(scheme: Scheme, eigenvalues, safety: float | None = None,
     if per_eigenvalue:
         out["per_eigenvalue"] = [_num(v) if not np.isinf(v) else None for v in res.per_eigenvalue]
     return out
+
+
+def enclosure_report(scheme: Scheme, enclosure, safety: float | None = None) -> dict:
+    """Return the step limit of a whole enclosure as a JSON-ready dict."""
+    res = enclosure_limit(scheme, enclosure)
+    evals = scheme.evaluations_per_step
+    desc = enclosure.describe() if hasattr(enclosure, "describe") else "enclosure"
+    if res.unbounded:
+        summary = f"{scheme.name}: every positive step keeps {desc} inside the region."
+    elif res.h_max == 0:
+        summary = (f"{scheme.name}: no positive step keeps {desc} inside the region"
+                   + (" (it reaches into Re(lambda) > 0 or past an unstable part near 0)." ))
+    else:
+        summary = (f"{scheme.name}: h_max = {res.h_max:.12g} for {desc}, set at "
+                   f"{_fmt_c(res.binding_point)}; h_max per evaluation = {res.h_max / evals:.6g}.")
+    from .spectra import ENCLOSURE_CAUTION
+    return {
+        "scheme": scheme.name, "enclosure": desc, "h_max": _num(res.h_max), "unbounded": res.unbounded,
+        "binding_eigenvalue": _complex_pair(res.binding_point), "evaluations_per_step": evals,
+        "h_max_per_evaluation": None if res.h_max is None else res.h_max / evals,
+        "safety": safety, "h_safe": None if (safety is None or res.h_max is None) else res.h_max * safety,
+        "boundary_samples": res.samples, "messages": list(res.messages) + [ENCLOSURE_CAUTION],
+        "summary": summary,
+    }
 
 
 def summary_line(scheme: Scheme, res: StepLimit) -> str:

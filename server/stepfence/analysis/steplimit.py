@@ -609,3 +609,61 @@ def _intersect(groups) -> tuple:
     # drop degenerate single points
     out = [(a, b) for a, b in out if b is None or b > a]
     return tuple((a, (None if (b is None or math.isinf(b)) else b)) for a, b in out)
+
+
+# --- enclosures -------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class EnclosureLimit:
+    """Largest h with h * E inside the region for every h' <= h, E a compact set."""
+
+    h_max: float | None
+    unbounded: bool
+    binding_point: complex | None
+    samples: int
+    messages: tuple = field(default_factory=tuple)
+
+
+def enclosure_limit(scheme: Scheme, enclosure, samples: int = 4096) -> EnclosureLimit:
+    """Return the step limit of a whole enclosure (disk, interval, segment, ellipse).
+
+    For every lambda in E the ray t lambda stays in S up to r(arg lambda)/|lambda|, smallest
+    for the outermost point in each direction, so the limit of E is the minimum over its
+    boundary. The boundary is sampled (extreme points included) with the exact step limit
+    of each sample; the minimum is then refined on the boundary parameter by bounded scalar
+    minimisation of the exact per-direction limit.
+    """
+    import scipy.optimize
+
+    pts = np.asarray(enclosure.boundary(samples), dtype=complex)
+    messages = []
+    if np.any(pts == 0):
+        messages.append("the enclosure contains lambda = 0: it only needs the root condition")
+    res = step_limit(scheme, pts)
+    per = res.per_eigenvalue
+    finite = np.where(np.isnan(per), np.inf, per)
+    if not res.zero_stable:
+        return EnclosureLimit(0.0, False, None, pts.size, res.messages)
+    j = int(np.argmin(finite))
+    best = float(finite[j])
+    if math.isinf(best):
+        return EnclosureLimit(None, True, None, pts.size,
+                              tuple(messages) + ("every positive step keeps the sampled boundary of "
+                                                 "the enclosure inside the region",))
+    binding = complex(pts[j])
+    if best > 0 and hasattr(enclosure, "point"):
+        params = np.linspace(0.0, 1.0, samples, endpoint=False)
+        s0 = params[j] if j < params.size else 0.0
+        step = 1.0 / samples
+
+        def h_of(s):
+            lam = complex(enclosure.point(np.array([s % 1.0]))[0])
+            if lam == 0:
+                return math.inf
+            return float(step_limit(scheme, [lam], table=False).per_eigenvalue[0])
+
+        r = scipy.optimize.minimize_scalar(h_of, bounds=(s0 - step, s0 + step), method="bounded",
+                                           options={"xatol": 1e-12})
+        if r.success and r.fun < best:
+            best = float(r.fun)
+            binding = complex(enclosure.point(np.array([r.x % 1.0]))[0])
+    return EnclosureLimit(best, False, binding, pts.size, tuple(messages))
