@@ -39,8 +39,11 @@ def _num(x):
 def _exact_text(x) -> str | None:
     if x is None:
         return None
+    x = sp.sympify(x)
+    if x.atoms(sp.Float):
+        return f"{float(x):.15g} (from coefficients rounded to 50 digits)"
     try:
-        return polytext.format_exact(sp.nsimplify(x))
+        return polytext.format_exact(x)
     except Exception:  # noqa: BLE001 - display only; fall back to sympy's own text
         return str(x).replace("**", "^")
 

@@ -75,33 +75,67 @@ def multistep_accuracy(alpha, beta) -> Accuracy:
                     linear_order=p)
 
 
+def _is_zero(c) -> bool:
+    """Exact zero test for rational or algebraic (sqrt) numbers.
+
+    Rationals are compared exactly; an algebraic number is expanded and, when sympy cannot
+    decide, evaluated at 60 digits and taken as zero below 1e-45 (its size otherwise).
+    """
+    c = sp.expand(c)
+    if c.is_Rational or c.is_Float:
+        return c == 0
+    z = c.equals(0) if len(c.atoms(sp.Pow)) < 6 else None
+    if z is not None:
+        return bool(z)
+    return abs(sp.N(c, 60)) < sp.Float("1e-45")
+
+
+def _series_coefficients(num, den, n):
+    """Return the first n power-series coefficients of num/den (ascending lists, den[0] != 0)."""
+    out = []
+    for q in range(n):
+        acc = num[q] if q < len(num) else 0
+        for j in range(1, min(q, len(den) - 1) + 1):
+            acc -= den[j] * out[q - j]
+        out.append(sp.expand(acc / den[0]))
+    return out
+
+
+def _poly_coeffs(expr):
+    poly = sp.Poly(sp.expand(expr), Z)
+    return list(reversed(poly.all_coeffs()))
+
+
+def _tidy(c):
+    c = sp.expand(c)
+    if c.atoms(sp.Float):
+        return sp.Float(c, 30)  # rounded input (e.g. RKC above 20 stages): stay a decimal
+    return sp.radsimp(c)
+
+
 def stability_function_accuracy(P, Q, max_order=MAX_ORDER_SEARCH):
     """Return (p, C) with R(z) - e^z = C z^{p+1} + O(z^{p+2}), R = P/Q, exactly."""
-    R = P / Q
-    n = max_order + 2
-    series = sp.series(R - sp.exp(Z), Z, 0, n).removeO()
-    poly = sp.Poly(sp.expand(series), Z)
-    coeffs = {m[0]: c for m, c in zip(poly.monoms(), poly.coeffs())}
-    for q in range(n):
-        c = sp.nsimplify(sp.simplify(coeffs.get(q, 0)))
-        if c != 0:
-            return q - 1, c
+    num, den = _poly_coeffs(P), _poly_coeffs(Q)
+    coeffs = _series_coefficients(num, den, max_order + 2)
+    for q, c in enumerate(coeffs):
+        d = c - sp.Rational(1, sp.factorial(q))
+        if not _is_zero(d):
+            return q - 1, _tidy(d)
     return max_order, sp.Integer(0)
 
 
 def pi_accuracy(scheme: Scheme, max_order=MAX_ORDER_SEARCH):
     """Return (p, c, c_root) from pi(e^z, z) = c z^{p+1} + ...; c_root is the principal-root error."""
-    expr = scheme.pi.expr()
-    e = sp.series(expr.subs(ZETA, sp.exp(Z)), Z, 0, max_order + 2).removeO()
-    poly = sp.Poly(sp.expand(e), Z)
-    coeffs = {m[0]: c for m, c in zip(poly.monoms(), poly.coeffs())}
-    dzeta = sp.diff(expr, ZETA).subs({ZETA: 1, Z: 0})
+    P = scheme.pi.exact
+    # coefficient of z^q in sum_ij P_ij e^{i z} z^j is sum_ij P_ij i^(q-j) / (q-j)!
+    dzeta = sum(i * P[i][0] for i in range(len(P)))
     for q in range(max_order + 2):
-        c = sp.nsimplify(sp.simplify(coeffs.get(q, 0)))
-        if c != 0:
-            p = q - 1
-            c_root = sp.nsimplify(-c / dzeta) if dzeta != 0 else None
-            return p, c, c_root
+        c = sum(P[i][j] * sp.Integer(i) ** (q - j) / sp.factorial(q - j)
+                for i in range(len(P)) for j in range(len(P[i])) if j <= q)
+        if not _is_zero(c):
+            c = _tidy(c)
+            c_root = _tidy(-c / dzeta) if dzeta != 0 else None
+            return q - 1, c, c_root
     return max_order, sp.Integer(0), sp.Integer(0)
 
 
