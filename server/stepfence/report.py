@@ -193,20 +193,41 @@ def _fmt_c(c) -> str:
     return f"{c.real:.8g}{c.imag:+.8g}i"
 
 
+def _drawn(values, span: float) -> list:
+    """Return values rounded far below a pixel (1e-7 of the span), None for breaks."""
+    v = np.asarray(values, dtype=float)
+    decimals = int(max(0, min(15, 7 - np.floor(np.log10(max(span, 1e-300))))))
+    out = np.round(v, decimals).tolist()
+    if not np.all(np.isfinite(v)):
+        out = [None if not math.isfinite(x) else x for x in out]
+    return out
+
+
+@lru_cache(maxsize=64)
+def _locus_cached(scheme: Scheme, n: int):
+    _, branches = boundary_locus(scheme.pi, n)
+    pts = [b[np.isfinite(b)] for b in branches]
+    pts = np.concatenate(pts) if pts else np.zeros(1)
+    span = float(np.max(np.abs(pts))) if pts.size else 1.0
+    return [{"x": _drawn(b.real, span), "y": _drawn(b.imag, span)} for b in branches]
+
+
 def region_payload(scheme: Scheme, xlim=None, ylim=None, grid: int = 240,
                    locus_points: int = 2048) -> dict:
     """Return boundary-locus branches and a filled raster for drawing."""
+    key = (scheme, None if xlim is None else tuple(xlim), None if ylim is None else tuple(ylim),
+           grid, locus_points)
+    return dict(_region_cached(*key))
+
+
+@lru_cache(maxsize=64)
+def _region_cached(scheme: Scheme, xlim, ylim, grid, locus_points) -> dict:
     pi = scheme.pi
     if xlim is None or ylim is None:
         bx, by = view_box(pi)
         xlim = xlim or bx
         ylim = ylim or by
-    _, branches = boundary_locus(pi, locus_points)
-    out_br = []
-    for b in branches:
-        x = [None if not np.isfinite(v) else float(v.real) for v in b]
-        y = [None if not np.isfinite(v) else float(v.imag) for v in b]
-        out_br.append({"x": x, "y": y})
+    out_br = _locus_cached(scheme, locus_points)
     aspect = (ylim[1] - ylim[0]) / max(xlim[1] - xlim[0], 1e-300)
     nx = grid
     ny = max(16, min(int(round(grid * aspect)), 2 * grid))
@@ -215,6 +236,6 @@ def region_payload(scheme: Scheme, xlim=None, ylim=None, grid: int = 240,
         "xlim": [float(xlim[0]), float(xlim[1])],
         "ylim": [float(ylim[0]), float(ylim[1])],
         "branches": out_br,
-        "raster": {"x": r.x.tolist(), "y": r.y.tolist(),
+        "raster": {"x": _drawn(r.x, xlim[1] - xlim[0]), "y": _drawn(r.y, ylim[1] - ylim[0]),
                    "stable": r.stable.astype(np.uint8).tolist()},
     }

@@ -49,12 +49,30 @@ def boundary_locus(pi: StabilityPolynomial, n: int = LOCUS_POINTS):
             z = -cz[:, 0] / cz[:, 1]
         roots = z[:, None]
     else:
-        roots = np.full((n, m), np.nan + 1j * np.nan)
-        for i in range(n):
-            r = polynomial_roots(cz[i])
-            roots[i, : r.size] = r
+        roots = _batched_roots(cz)
         roots = _track(roots)
     return theta, _branches(roots)
+
+
+def _batched_roots(c: np.ndarray) -> np.ndarray:
+    """Return the m roots of each row of ascending coefficients (nan where the degree drops)."""
+    n, mp1 = c.shape
+    m = mp1 - 1
+    lead = c[:, -1]
+    scale = np.max(np.abs(c), axis=1)
+    ok = np.abs(lead) > 1e-12 * scale
+    out = np.full((n, m), np.nan + 1j * np.nan)
+    if np.any(ok):
+        cc = c[ok] / lead[ok, None]
+        comp = np.zeros((cc.shape[0], m, m), dtype=complex)
+        comp[:, 0, :] = -cc[:, :-1][:, ::-1]
+        idx = np.arange(m - 1)
+        comp[:, idx + 1, idx] = 1.0
+        out[ok] = np.linalg.eigvals(comp)
+    for i in np.nonzero(~ok)[0]:  # a root passes through infinity here: solve the lower degree
+        r = polynomial_roots(c[i])
+        out[i, : r.size] = r
+    return out
 
 
 def _branches(roots):
@@ -73,17 +91,24 @@ def _branches(roots):
 
 def _track(roots: np.ndarray) -> np.ndarray:
     """Reorder roots row by row so each column follows one continuous branch."""
+    import itertools
     out = roots.copy()
     m = roots.shape[1]
+    if m <= 1:
+        return out
+    perms = np.array(list(itertools.permutations(range(m)))) if m <= 5 else None
     for i in range(1, roots.shape[0]):
         prev = out[i - 1]
         cur = roots[i]
-        if m <= 1:
-            continue
         cost = np.abs(prev[:, None] - cur[None, :])
         cost[~np.isfinite(cost)] = 1e300
-        r, c = scipy.optimize.linear_sum_assignment(cost)
-        out[i, r] = cur[c]
+        if perms is not None:
+            # all m! matchings at once: cheaper than an assignment solver for small m
+            tot = cost[np.arange(m)[None, :], perms].sum(axis=1)
+            out[i] = cur[perms[int(np.argmin(tot))]]
+        else:
+            r, c = scipy.optimize.linear_sum_assignment(cost)
+            out[i, r] = cur[c]
     return out
 
 
