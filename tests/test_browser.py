@@ -386,6 +386,10 @@ def test_malformed_polynomial_keeps_the_text(ctx, live_server):
     page.fill(".scheme-editor--a [data-field=sigma]", "3/2 z - 1/2 +")
     box = page.locator(".scheme-editor--a [data-error-for=sigma]")
     box.wait_for(state="visible")
+    # the rho edit alone (old sigma, higher degree) may be answered first under load: wait
+    # for the message about the text as finally typed
+    page.wait_for_function("document.querySelector('.scheme-editor--a [data-error-for=sigma]')"
+                           "?.innerText.includes('^')")
     assert "sigma" in box.inner_text() and "^" in box.inner_text()
     assert page.input_value(".scheme-editor--a [data-field=sigma]") == "3/2 z - 1/2 +"
     assert "is-invalid" in page.get_attribute(".scheme-editor--a [data-field=sigma]", "class")
