@@ -70,6 +70,7 @@ export const parseSpectrum = (text, signal) => post('/api/spectrum/parse', { tex
 export const modelSpectrum = (kind, n, params, signal) =>
   post('/api/spectrum/model', { kind, n, params }, signal);
 export const verify = (body, signal) => post('/api/verify', body, signal);
+export const accuracy = (body, signal) => post('/api/accuracy', body, signal);
 export const readJob = (id, signal) => get(`/api/jobs/${encodeURIComponent(id)}`, signal);
 export const cancelJob = (id) => call('DELETE', `/api/jobs/${encodeURIComponent(id)}`).then((r) => r.data);
 

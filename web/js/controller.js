@@ -13,6 +13,7 @@ const DESCRIBE_DELAY_MS = 350;
 const SHARE_DEBOUNCE_MS = 350;
 const MAX_VALUES_IN_LINK = 20000;
 const JOB_POLL_MS = 400;
+const ACCURACY_DEBOUNCE_MS = 300;
 
 const SLOT_KEYS = {
   a: { scheme: 'schemeA', analysis: 'analysisA', error: 'errorA', limit: 'limitA', limitError: 'limitErrorA' },
@@ -347,8 +348,83 @@ export function createController(store) {
     }
   }
 
+  // --- accuracy beside stability -------------------------------------------------------
+  // Each shown scheme's accuracy report for the spectrum, h, tol and per; A's also compares the
+  // work with B. Only the last scheme that could be read is sent (the analysed specKey), so a
+  // scheme being typed keeps its last report instead of an error here. While the h slider is
+  // dragged nothing is asked (the page promises no server call per slider move); the release
+  // asks once.
+  const ACCURACY_KEYS = ['analysisA', 'analysisB', 'limitA', 'limitB', 'spectrum', 'h', 'hDragging', 'tol', 'per', 'compare'];
+  let accuracyKey = null;
+
+  function accuracyInputs(state) {
+    const values = state.spectrum?.values;
+    const slots = activeSlots(state);
+    // asked only once the scheme's properties and limit are in: the server derives the root
+    // condition for each, and its mpmath precision is shared between requests (see routes_accuracy)
+    const ready = (s) => {
+      const an = state[SLOT_KEYS[s].analysis];
+      return an?.specKey && an.describeFor === an.specKey && state[SLOT_KEYS[s].limit];
+    };
+    if (!values?.length || !slots.every(ready)) return null;
+    const specs = slots.map((s) => state[SLOT_KEYS[s].analysis].specKey);
+    return { values, specs: specs.map((k) => JSON.parse(k)), h: state.h || null, tol: state.tol, per: state.per };
+  }
+
+  function refreshAccuracy(delay = ACCURACY_DEBOUNCE_MS) {
+    const state = store.get();
+    const inp = accuracyInputs(state);
+    if (!inp) return null;
+    const key = JSON.stringify([inp.specs, inp.h, inp.tol, inp.per]);
+    // a region redraw (zoom, pan) changes the analysis but not what is asked here
+    if (accuracyKey && accuracyKey.key === key && accuracyKey.spectrum === state.spectrum) return null;
+    accuracyKey = { key, spectrum: state.spectrum };
+    store.set({ accuracyBusy: true });
+    return schedule('accuracy', delay, async (signal, current) => {
+      const body = (k) => {
+        const b = { scheme: inp.specs[k], eigenvalues: inp.values, tol: inp.tol, per: inp.per };
+        if (inp.h) b.h = inp.h;
+        if (k === 0 && inp.specs.length > 1) b.other = inp.specs[1];
+        return b;
+      };
+      let reports;
+      try {
+        reports = [];
+        for (let k = 0; k < inp.specs.length; k++) reports.push(await api.accuracy(body(k), signal));
+      } catch (err) {
+        if (err?.name === 'AbortError' || !current()) throw err;
+        serverTrouble(err);
+        accuracyKey = null;   // the same input may be asked again once the trouble is gone
+        store.set({ accuracyError: err.info || { message: err.message }, accuracyBusy: false });
+        return null;
+      }
+      if (!current()) return null;
+      store.set({ accuracyA: reports[0], accuracyB: reports[1] || null, accuracyError: null, accuracyBusy: false,
+        accuracyFor: { tol: inp.tol, per: inp.per, h: inp.h } });
+      return reports;
+    });
+  }
+
+  // A drag supersedes whatever was asked for the h before it.
+  function holdAccuracy() {
+    const ch = channel('accuracy');
+    clearTimeout(ch.timer);
+    ch.abort?.abort();
+    ch.seq++;
+    accuracyKey = null;
+    if (store.get().accuracyBusy) store.set({ accuracyBusy: false });
+  }
+
+  function watchAccuracy() {
+    store.subscribe((state, changed) => {
+      if (state.restoring || !ACCURACY_KEYS.some((k) => changed.has(k))) return;
+      if (state.hDragging) holdAccuracy();
+      else refreshAccuracy();
+    });
+  }
+
   // --- share link ----------------------------------------------------------------------
-  const SHARED_KEYS = ['schemeA', 'schemeB', 'compare', 'layout', 'spectrumInput', 'spectrum', 'h', 'safety', 'view'];
+  const SHARED_KEYS = ['schemeA', 'schemeB', 'compare', 'layout', 'spectrumInput', 'spectrum', 'h', 'safety', 'view', 'tol', 'per'];
   function watchShare() {
     store.subscribe((state, changed) => {
       if (!SHARED_KEYS.some((k) => changed.has(k)) || state.restoring) return;
@@ -381,6 +457,8 @@ export function createController(store) {
     fitView,
     runVerify,
     watchShare,
+    watchAccuracy,
+    refreshAccuracy,
     notice,
     referenceStep,
     expectInitial(what) { pendingInitial = what; },

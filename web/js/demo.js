@@ -21,5 +21,7 @@ export function demoState() {
     h: null,
     safety: 0.9,
     view: null,
+    tol: 1e-6,
+    per: 'step',
   };
 }

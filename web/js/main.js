@@ -12,6 +12,7 @@ import { mountRegionPlot } from './region-plot.js';
 import { mountPropertyTable } from './property-table.js';
 import { mountCautionsPanel } from './cautions-panel.js';
 import { mountVerifyPanel } from './verify-panel.js';
+import { mountAccuracyPanel } from './accuracy-panel.js';
 import { mountShareBar, mountNoticeArea } from './share-bar.js';
 import { decodeShared, fromShared, HASH_PREFIX } from './share-state.js';
 import { demoState, DEMO_NOTE } from './demo.js';
@@ -26,6 +27,7 @@ const store = createStore({
   limitA: null, limitB: null, limitErrorA: null, limitErrorB: null,
   spectrum: null, spectrumError: null, job: null, jobId: null,
   verifyResult: null, verifyBusy: false, verifyError: null, viewRevision: 0,
+  accuracyA: null, accuracyB: null, accuracyError: null, accuracyBusy: false, accuracyFor: null, hDragging: false,
 });
 const controller = createController(store);
 const $ = (id) => document.getElementById(id);
@@ -49,6 +51,7 @@ const plot = mountRegionPlot($('region-plot'), { store, controller });
 controller.attachPlot(plot);
 mountPropertyTable($('property-table'), { store });
 mountCautionsPanel($('cautions'), { store });
+mountAccuracyPanel($('accuracy'), { store });
 mountVerifyPanel($('verify'), { store, controller });
 mountShareBar($('share-bar'), { store, onLoadConfig });
 
@@ -64,6 +67,7 @@ function applyShared(obj, source) {
   delete patch.restoredValues;
   store.set({ ...defaults, ...patch, restoring: true, demo: null, analysisA: null, analysisB: null, limitA: null, limitB: null,
     errorA: null, errorB: null, spectrum: null, spectrumError: null, job: null, jobId: null, verifyResult: null,
+    accuracyA: null, accuracyB: null, accuracyError: null,
     viewRevision: store.get().viewRevision + 1 });
   if (problems.length) controller.notice('warning', describeProblems(problems, source), 'restore');
   else controller.notice('warning', null, 'restore');
@@ -96,6 +100,7 @@ function onLoadConfig(obj, error, name) {
 
 async function boot() {
   controller.watchShare();
+  controller.watchAccuracy();
   fetchModels().then((m) => store.set({ models: m.models })).catch(() => controller.notice('error', 'The list of semi-discretisations could not be loaded.', 'models'));
   pollCatalogue();
   const hash = location.hash;

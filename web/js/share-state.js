@@ -24,6 +24,8 @@ export function toShared(state) {
     h: state.h,
     safety: state.safety,
     view: state.view,
+    tol: state.tol,
+    per: state.per,
   };
 }
 
@@ -129,6 +131,15 @@ export function fromShared(obj, defaults) {
   if (obj.view !== undefined && obj.view !== null) {
     if (obj.view && isBox(obj.view.xlim) && isBox(obj.view.ylim)) patch.view = { xlim: obj.view.xlim, ylim: obj.view.ylim };
     else problems.push('the plot view could not be read; the region is fitted instead');
+  }
+  // tol and per came later than version 1's first links: missing means the defaults
+  if (obj.tol !== undefined) {
+    if (finitePos(obj.tol) && obj.tol < 1) patch.tol = obj.tol;
+    else problems.push('the accuracy tolerance could not be read (it must lie in (0, 1)); the default was kept');
+  }
+  if (obj.per !== undefined) {
+    if (obj.per === 'step' || obj.per === 'unit-time') patch.per = obj.per;
+    else problems.push('the tolerance basis (per step or per unit time) could not be read; per step was kept');
   }
   return { patch, problems };
 }

@@ -57,8 +57,10 @@ export function mountStepControl(root, { store, controller }) {
       const h = Number(sliderToStep(Number(slider.value), range[0], range[1]).toPrecision(6));
       hIn.value = String(h);
       hField.clear();
-      store.set({ h });
-    } });
+      // while dragging only the points move; server work waits for the release (change)
+      store.set({ h, hDragging: true });
+    },
+    onchange: () => store.set({ hDragging: false }) });
   const rangeLo = el('span', { class: 'slider__end' });
   const rangeHi = el('span', { class: 'slider__end' });
   const useButtons = el('div', { class: 'step-control__use' });

@@ -305,3 +305,49 @@ export function verifyTraces(results) {
     hovertemplate: 'step %{x}: ‖u‖/‖u₀‖ = %{y:.4g}<extra></extra>',
   }));
 }
+
+// Accuracy beside stability: amplitude error |zeta|/|e^z| - 1 (top) and phase error (bottom)
+// against h*omega on the imaginary axis, one report per scheme (A solid, B dashed), and a
+// marker at h * max|Im lambda|. Values the server could not determine arrive as null: gaps.
+// items: [{style, name, axis: report.imaginary_axis}], A first.
+export function accuracyFigure({ items, marker, uirevision }) {
+  const data = [];
+  for (const { style, name, axis: ax } of items) {
+    if (!ax) continue;
+    const common = { type: 'scatter', mode: 'lines', x: ax.omega_h, legendgroup: style.key, line: { color: style.line, width: 2, dash: style.dash } };
+    data.push({ ...common, y: ax.amplitude_error, name: `${style.tag}: ${name}`, xaxis: 'x', yaxis: 'y',
+      hovertemplate: `${style.tag} · h·ω = %{x:.4g}<br>|ζ|/|e^z| − 1 = %{y:.4g}<extra></extra>`, meta: { role: 'amplitude', slot: style.key } });
+    data.push({ ...common, y: ax.phase_error, name: `${style.tag}: ${name}`, showlegend: false, xaxis: 'x', yaxis: 'y2',
+      hovertemplate: `${style.tag} · h·ω = %{x:.4g}<br>phase error = %{y:.4g} rad/step<extra></extra>`, meta: { role: 'phase', slot: style.key } });
+  }
+  const grid = { gridcolor: '#ebe6db', zeroline: true, zerolinecolor: '#7d858f', zerolinewidth: 1, linecolor: '#cfc8ba', mirror: true,
+    ticks: 'outside', tickcolor: '#cfc8ba', tickfont: { size: 11, color: '#4a5563' }, exponentformat: 'power' };
+  const title = (text) => ({ text, font: { size: 12, color: '#4a5563' } });
+  const shapes = [];
+  const annotations = [];
+  if (marker !== null && marker !== undefined && Number.isFinite(marker)) {
+    shapes.push({ type: 'line', xref: 'x', yref: 'paper', x0: marker, x1: marker, y0: 0, y1: 1, line: { color: POINT_COLOR, width: 1.4, dash: 'dot' } });
+    annotations.push({ xref: 'x', yref: 'paper', x: marker, y: 1, yanchor: 'bottom', xanchor: 'left', showarrow: false,
+      text: 'h·max|Im λ|', font: { size: 11, color: POINT_COLOR } });
+  }
+  return {
+    data,
+    layout: {
+      uirevision, hovermode: 'closest', paper_bgcolor: '#ffffff', plot_bgcolor: '#fcfbf8', dragmode: 'zoom',
+      font: { family: 'system-ui, -apple-system, "Segoe UI", Roboto, "Helvetica Neue", Arial, sans-serif', size: 12, color: '#1f2933' },
+      margin: { l: 66, r: 16, t: 20, b: 44 }, showlegend: true,
+      legend: { orientation: 'h', x: 0, y: 1.02, yanchor: 'bottom', xanchor: 'left', font: { size: 11 }, bgcolor: 'rgba(255,255,255,0)' },
+      xaxis: { ...grid, anchor: 'y2', title: title('h·ω  (z = i h·ω on the imaginary axis)') },
+      yaxis: { ...grid, domain: [0.55, 1], title: title('|ζ|/|e^z| − 1') },
+      yaxis2: { ...grid, domain: [0, 0.45], anchor: 'x', title: title('phase error (rad/step)') },
+      shapes, annotations,
+    },
+  };
+}
+
+// The largest |Im lambda| of a spectrum [[re, im], ...] (0 for a real one).
+export function largestImag(values) {
+  let m = 0;
+  for (const v of values || []) m = Math.max(m, Math.abs(v[1]));
+  return m;
+}

@@ -19,6 +19,14 @@ DIGITS = 50
 ON_CIRCLE_TOL = mpmath.mpf(10) ** (-35)
 
 
+def _context():
+    # a private context per call: mpmath.workdps changes the global precision, which races
+    # between server threads (seen as NoConvergence in concurrent requests)
+    ctx = mpmath.MPContext()
+    ctx.dps = DIGITS
+    return ctx
+
+
 @dataclass(frozen=True)
 class Root:
     value: complex
@@ -51,18 +59,18 @@ def exact_roots(coeffs_ascending) -> list[Root]:
         return []
     _, factors = poly.sqf_list()
     out = []
-    with mpmath.workdps(DIGITS):
-        for fac, mult in factors:
-            cs = [mpmath.mpmathify(sp.N(c, DIGITS + 10)) for c in fac.all_coeffs()]
-            if fac.degree() == 1:
-                rts = [-cs[1] / cs[0]]
-            else:
-                rts = mpmath.polyroots(cs, maxsteps=400, extraprec=4 * DIGITS)
-            for r in rts:
-                mod = abs(r)
-                on = abs(mod - 1) < ON_CIRCLE_TOL
-                out.append(Root(value=complex(r), multiplicity=int(mult), modulus=float(mod),
-                                on_circle=bool(on), outside=bool(mod > 1 and not on)))
+    mp = _context()
+    for fac, mult in factors:
+        cs = [mp.mpmathify(sp.N(c, DIGITS + 10)) for c in fac.all_coeffs()]
+        if fac.degree() == 1:
+            rts = [-cs[1] / cs[0]]
+        else:
+            rts = mp.polyroots(cs, maxsteps=400, extraprec=4 * DIGITS)
+        for r in rts:
+            mod = abs(r)
+            on = abs(mod - 1) < ON_CIRCLE_TOL
+            out.append(Root(value=complex(r), multiplicity=int(mult), modulus=float(mod),
+                            on_circle=bool(on), outside=bool(mod > 1 and not on)))
     out.sort(key=lambda r: (-r.modulus, r.value.real, r.value.imag))
     return out
 

@@ -7,8 +7,8 @@ from fastapi import FastAPI
 
 from .. import __version__, limits
 from . import catalogue_index
-from . import (routes_health, routes_jobs, routes_limits, routes_schemes, routes_spectra,
-               routes_static, routes_verify)
+from . import (routes_accuracy, routes_health, routes_jobs, routes_limits, routes_schemes,
+               routes_spectra, routes_static, routes_verify)
 from .errors import install_error_handlers
 from .jobs import JobManager
 from .middleware import BodyLimitMiddleware
@@ -47,7 +47,7 @@ def create_app(settings: Settings | None = None, warm_catalogue: bool = True) ->
     app.state.jobs = jobs
     install_error_handlers(app)
     for module in (routes_health, routes_schemes, routes_limits, routes_spectra, routes_jobs,
-                   routes_verify, routes_static):
+                   routes_verify, routes_accuracy, routes_static):
         app.include_router(module.router)
     routes_static.mount_page(app, settings)
     app.add_middleware(BodyLimitMiddleware, max_bytes=settings.max_body_bytes)

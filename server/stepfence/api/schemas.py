@@ -278,3 +278,48 @@ class HealthResponse(BaseModel):
     status: Literal["ok"]
     version: str
     catalogue_ready: bool
+
+
+# --- accuracy --------------------------------------------------------------------------
+
+class AccuracyRequest(BaseModel):
+    model_config = ConfigDict(extra="forbid")
+
+    scheme: SchemeInput
+    eigenvalues: EigenvalueInput
+    h: Optional[FiniteFloat] = Field(None, gt=0, description="step for the along-spectrum table; "
+                                                             "by default the binding limit")
+    tol: FiniteFloat = Field(1e-6, gt=0, lt=1, description="local error tolerance in (0, 1); per "
+                                                           "step at most 0.5")
+    per: Literal["step", "unit-time"] = Field(
+        "step", description="tol per step, or per unit time (error per step divided by h)")
+    other: Optional[SchemeInput] = Field(None, description="a second scheme: compare the work "
+                                                           "per f-evaluation at equal accuracy")
+
+
+class AccuracyResponse(BaseModel):
+    scheme: dict[str, Any] = Field(description="name, label, kind, linear_order, "
+                                               "principal_error_constant ...")
+    conventions: dict[str, str]
+    tol: float
+    per: Literal["step", "unit-time"]
+    stability_limit: dict[str, Any] = Field(description="h_max (null: unbounded), binding eigenvalue")
+    accuracy_limit: dict[str, Any] = Field(description="h_max (null: unbounded), binding eigenvalue, "
+                                                       "asymptotic_h_max")
+    binding: Optional[str] = Field(description="'stability', 'accuracy', 'both' or 'neither'")
+    h_binding: Optional[float]
+    verdict: str = Field(description="which limit binds, both numbers in one sentence")
+    stiffness_ratio: Optional[float] = Field(description="max/min |Re lambda| of the decaying modes")
+    h: float
+    h_source: str
+    at_h: dict[str, Any] = Field(description="stable, max_relative_error, tolerance, "
+                                             "meets_tolerance at the step h")
+    spectrum: dict[str, Any] = Field(description=f"the along-spectrum table at h, at most "
+                                                 f"5000 rows (the worst when truncated)")
+    imaginary_axis: dict[str, Any] = Field(description="omega_h, amplitude_error, phase_error, "
+                                                       "spurious_max ... (null: undetermined)")
+    comparison: Optional[dict[str, Any]] = Field(description="with other: work per f-evaluation "
+                                                             "at equal accuracy")
+    messages: list[str]
+    cautions: list[str]
+    elapsed_ms: float

@@ -431,9 +431,22 @@ def _det_one_minus_z(M: sp.MatrixBase) -> list[sp.Expr]:
 
     With det(x I - M) = x^s + a_1 x^(s-1) + ... + a_s, det(I - z M) = 1 + a_1 z + ... + a_s z^s.
     """
+    M = sp.Matrix(M)
+    if not all(a.is_Rational for a in M):
+        # hardening fix: with radicals in A, sympy's charpoly works on raw expressions that
+        # grow without bound (a dense 8-stage tableau with sqrt(2) in every entry ran for
+        # minutes, tying up a server thread); in the algebraic field QQ<sqrt(...)> it is exact
+        # and takes milliseconds. Same coefficients (checked in test_hardening_numeric.py).
+        from sympy.polys.matrices import DomainMatrix
+        try:
+            dm = DomainMatrix.from_Matrix(M, extension=True)
+        except Exception:  # noqa: BLE001 - no field found: keep the general route below
+            dm = None
+        if dm is not None and dm.domain.is_AlgebraicField:
+            return [_tidy(sp.expand(dm.domain.to_sympy(a))) for a in dm.charpoly()]
     x = sp.Dummy("x")
     # expand, not the default simplify: entries are canonical already and simplify is slow
-    coeffs = sp.Matrix(M).charpoly(x, simplify=sp.expand).all_coeffs()
+    coeffs = M.charpoly(x, simplify=sp.expand).all_coeffs()
     return [_tidy(a) for a in coeffs]
 
 

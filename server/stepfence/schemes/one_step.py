@@ -141,12 +141,14 @@ def _shifted_chebyshev(s, a, b, w0, w1, order):
         P = T.compose(sp.Poly(w0 + w1 * Z, Z))
         return sp.expand(a + b * P.as_expr())
     import mpmath
-    with mpmath.workdps(70):
-        W0, W1 = mpmath.mpf(sp.Rational(w0).p) / sp.Rational(w0).q, mpmath.mpf(sp.Rational(w1).p) / sp.Rational(w1).q
-        A, B = mpmath.mpf(sp.Rational(a).p) / sp.Rational(a).q, mpmath.mpf(sp.Rational(b).p) / sp.Rational(b).q
-        t_prev, t_cur = [mpmath.mpf(1)], [W0, W1]
+    mp = mpmath.MPContext()  # private: the global precision is shared between threads
+    mp.dps = 70
+    if True:
+        W0, W1 = mp.mpf(sp.Rational(w0).p) / sp.Rational(w0).q, mp.mpf(sp.Rational(w1).p) / sp.Rational(w1).q
+        A, B = mp.mpf(sp.Rational(a).p) / sp.Rational(a).q, mp.mpf(sp.Rational(b).p) / sp.Rational(b).q
+        t_prev, t_cur = [mp.mpf(1)], [W0, W1]
         for _ in range(1, s):
-            nxt = [mpmath.mpf(0)] * (len(t_cur) + 1)
+            nxt = [mp.mpf(0)] * (len(t_cur) + 1)
             for i, c in enumerate(t_cur):
                 nxt[i] += 2 * W0 * c
                 nxt[i + 1] += 2 * W1 * c
@@ -157,7 +159,7 @@ def _shifted_chebyshev(s, a, b, w0, w1, order):
         coeffs[0] += A
         out = []
         for j, c in enumerate(coeffs):
-            out.append(sp.Rational(1, sp.factorial(j)) if j <= order else sp.Float(mpmath.nstr(c, 50), 50))
+            out.append(sp.Rational(1, sp.factorial(j)) if j <= order else sp.Float(mp.nstr(c, 50), 50))
     return sum(c * Z**j for j, c in enumerate(out))
 
 
