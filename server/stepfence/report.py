@@ -95,7 +95,7 @@ def _describe_cached(scheme: Scheme) -> dict:
         "infinity_roots": inf_roots,
         "bounded": met.bounded,
         "empty_interior": met.empty_interior,
-        "notes": list(met.notes) + list(acc.notes),
+        "notes": list(met.notes) + list(acc.notes) + _reducible_note(scheme),
         "rho": scheme.rho_text(),
         "sigma": scheme.sigma_text(),
         "alpha": [_exact_text(a) for a in scheme.rho] if scheme.rho else None,
@@ -111,6 +111,16 @@ def _describe_cached(scheme: Scheme) -> dict:
     if scheme.tableau is not None and hasattr(scheme.tableau, "to_json"):
         out["tableau"] = scheme.tableau.to_json()
     return out
+
+
+def _reducible_note(scheme: Scheme) -> list:
+    # hardening: the flag alone (describe["reducible"]) was never said in words
+    factor = scheme.details.get("common_factor")
+    if not scheme.details.get("reducible"):
+        return []
+    return [f"rho and sigma share the factor {factor}: the method is reducible (a method with "
+            "fewer steps in disguise); the factor's roots are roots of pi(., z) for every z, so "
+            "they count in the root condition and in the region"]
 
 
 def describe(scheme: Scheme) -> dict:

@@ -15,7 +15,7 @@ from typing import Any
 import sympy as sp
 
 from . import polytext
-from .errors import InputError
+from .errors import InputError, LimitExceeded
 from .schemes import multistep as ms
 from .schemes import one_step
 from .schemes.base import Scheme
@@ -24,6 +24,59 @@ from .schemes.predictor_corrector import predictor_corrector
 from .schemes.stability import Z
 
 POLY_ALIASES = ("z", "x", "w", "ζ", "xi")
+# Hardening bound: the exact coefficients of one scheme live in QQ(sqrt(q1), sqrt(q2), ...),
+# a field of degree 2^r, and exact algebra there grows fast with r: with r = 6 a 1-stage
+# tableau or a 2-step sigma ran for minutes; with r = 2 the worst case allowed (16 dense stages)
+# takes about 21 s on a 2-core machine. Every scheme of the catalogue needs r <= 1.
+MAX_SQRT_RANK = 2
+
+
+def _square_roots(values) -> set:
+    """Return the radicands q of the square roots sqrt(q) in exact values (sympy keeps q
+    square-free: sqrt(8) is 2*sqrt(2))."""
+    return {p.base for v in values for p in sp.sympify(v).atoms(sp.Pow)
+            if p.exp.is_Rational and p.exp.q == 2}
+
+
+def _sqrt_rank(radicands) -> int:
+    """Return r, with 2^r the degree of QQ(sqrt(q) for q in radicands) (q square-free > 0).
+
+    sqrt(6) lies in QQ(sqrt(2), sqrt(3)): r is the rank over GF(2) of the prime sets of q.
+    """
+    primes: dict = {}
+    basis: list[int] = []
+    for q in radicands:
+        mask = 0
+        for prime in sp.factorint(abs(sp.Integer(q))):
+            mask |= 1 << primes.setdefault(prime, len(primes))
+        if sp.Integer(q) < 0:
+            mask |= 1 << primes.setdefault(-1, len(primes))
+        for b in basis:
+            mask = min(mask, mask ^ b)
+        if mask:
+            basis.append(mask)
+    return len(basis)
+
+
+def _bounded_radicals(values, field: str) -> None:
+    """Refuse exact coefficients whose square roots span more than MAX_SQRT_RANK of them."""
+    roots = _square_roots(values)
+    if len(roots) > MAX_SQRT_RANK and _sqrt_rank(roots) > MAX_SQRT_RANK:
+        shown = ", ".join(f"sqrt({q})" for q in sorted(roots, key=str)[:6])
+        raise LimitExceeded(field, f"uses {len(roots)} independent square roots ({shown}); at "
+                                   f"most {MAX_SQRT_RANK} per scheme (this bound keeps the exact "
+                                   "analysis to seconds)")
+
+
+def _renamed_multistep(alpha, beta, label):
+    # the multistep builder names its own fields (alpha, beta); a user who typed rho and sigma
+    # must see those names (a 13-step rho was reported as "alpha: has 13 steps")
+    try:
+        return ms.multistep(alpha, beta, label=label)
+    except InputError as e:
+        name = {"alpha": "rho", "beta": "sigma"}.get(e.field, e.field)
+        raise type(e)(name, e.message, position=e.position, expected=e.expected, line=e.line,
+                      column=e.column) from None
 
 
 def _numbers(value, field) -> list:
@@ -65,21 +118,28 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
         if len(sigma) > len(rho):
             raise InputError("sigma", f"has degree {len(sigma) - 1} above rho's degree {len(rho) - 1}",
                              expected="deg sigma <= deg rho")
-        return ms.multistep(list(rho) + [0] * (n - len(rho)), list(sigma) + [0] * (n - len(sigma)),
-                            label="custom multistep (rho, sigma)")
+        _bounded_radicals(list(rho) + list(sigma),
+                          "rho" if _sqrt_rank(_square_roots(rho)) > MAX_SQRT_RANK else "sigma")
+        return _renamed_multistep(list(rho) + [0] * (n - len(rho)),
+                                  list(sigma) + [0] * (n - len(sigma)),
+                                  "custom multistep (rho, sigma)")
     if "alpha" in keys or "beta" in keys:
         if "alpha" not in keys or "beta" not in keys:
             missing = "alpha" if "alpha" not in keys else "beta"
             raise InputError(missing, "is empty; a multistep method needs alpha and beta")
         alpha = _numbers(spec["alpha"], "alpha")
         beta = _numbers(spec["beta"], "beta")
+        _bounded_radicals(list(alpha) + list(beta), "beta")
         return ms.multistep(alpha, beta, label="custom multistep (alpha, beta)")
     if "tableau" in keys:
         from .schemes.butcher import ButcherTableau
         tab = ButcherTableau.from_json(spec["tableau"], field="tableau")
+        _bounded_radicals(list(tab.A) + list(tab.b) + list(tab.c) + list(tab.b_embedded or ()),
+                          "tableau")
         return one_step.from_tableau(tab, name="custom", label="custom Runge-Kutta tableau")
     if "stability" in keys:
         num, den = polytext.parse_rational_function(str(spec["stability"]), "stability", "z")
+        _bounded_radicals(list(num) + list(den), "stability")
         P = sum(c * Z**i for i, c in enumerate(num))
         Q = sum(c * Z**i for i, c in enumerate(den))
         stages = spec.get("stages")
@@ -97,6 +157,7 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
         if isinstance(m, str) and m.strip().isdigit():
             m = int(m)
         mode = str(spec.get("mode", "PECE"))
+        _bounded_radicals([c for row in pred.pi.exact + corr.pi.exact for c in row], field)
         return predictor_corrector(pred, corr, m, mode)
     raise InputError(field, "gives no scheme: use a catalogue name, rho/sigma, alpha/beta, "
                             "a tableau, a stability function or a predictor/corrector pair")

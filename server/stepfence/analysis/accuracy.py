@@ -48,8 +48,14 @@ def multistep_constants(alpha, beta, qmax=MAX_ORDER_SEARCH):
         else:
             b = sum((sp.Integer(j)**(q - 1) if (j, q - 1) != (0, 0) else 1) * bj
                     for j, bj in enumerate(beta)) / sp.factorial(q - 1)
-        out.append(sp.nsimplify(sp.simplify(a - b)))
+        out.append(_exact(sp.simplify(a - b)))
     return out
+
+
+def _exact(x):
+    # hardening fix: nsimplify only what holds floats; on an exact irrational it may return a
+    # nearby but different number (see schemes.multistep.multistep)
+    return sp.nsimplify(x) if x.has(sp.Float) else x
 
 
 def multistep_accuracy(alpha, beta) -> Accuracy:
@@ -68,7 +74,7 @@ def multistep_accuracy(alpha, beta) -> Accuracy:
                         convention="C_0 = rho(1) != 0: not consistent", linear_order=0)
     cp1 = C[p + 1] if p + 1 < len(C) else sp.Integer(0)
     s1 = sum(beta)
-    norm = sp.nsimplify(cp1 / s1) if s1 != 0 else None
+    norm = _exact(sp.radsimp(cp1 / s1)) if s1 != 0 else None
     return Accuracy(order=p, consistent=bool(consistent), error_constant=cp1,
                     error_constant_normalised=norm,
                     convention="C_{p+1} with alpha_k = 1; normalised: C_{p+1}/sigma(1)",

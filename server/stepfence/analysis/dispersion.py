@@ -515,7 +515,8 @@ def principal_error_constant(scheme: Scheme):
         raise InputError("scheme", "has no principal-root error constant (not consistent)")
     if scheme.kind == "multistep":
         c = -c
-    return int(p), sp.nsimplify(c)
+    # hardening fix: nsimplify only floats (it can change an exact irrational; see multistep)
+    return int(p), (sp.nsimplify(c) if sp.sympify(c).has(sp.Float) else sp.sympify(c))
 
 
 def distinct_points(pi, z):

@@ -16,6 +16,7 @@ computation.
 from __future__ import annotations
 
 import math
+import threading
 from dataclasses import dataclass, field
 from functools import lru_cache
 
@@ -257,11 +258,28 @@ class _FineExit:
         return ok, self.pid[jo], ends
 
 
+# hardening fix: lru_cache lets concurrent first calls with one key all build the table
+# (about a second of CPU each); under 32 concurrent clients on a cold server that multiplied
+# into 40 s answers. One lock per key stripe makes the others wait for the first build.
+_BUILD_LOCKS = tuple(threading.RLock() for _ in range(64))
+
+
+def _single_flight(cached):
+    """Wrap a one-key cached builder so concurrent first calls with one key build it once."""
+    def build(key):
+        with _BUILD_LOCKS[hash(key) % len(_BUILD_LOCKS)]:
+            return cached(key)
+    build.cache_clear = cached.cache_clear
+    return build
+
+
+@_single_flight
 @lru_cache(maxsize=16)
 def _fine_for(key) -> _FineExit:
     return _FineExit(_table_for(key))
 
 
+@_single_flight
 @lru_cache(maxsize=16)
 def _table_for(key) -> _Table:
     pi = _PI_REGISTRY[key]

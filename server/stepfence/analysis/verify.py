@@ -629,7 +629,12 @@ def _diagonal_rk(system, h, A, b):
         zc = z[lo:lo + CHUNK]
         M = np.eye(s)[None, :, :] - zc[:, None, None] * A[None, :, :]
         sv = np.linalg.svd(M, compute_uv=False)
-        worst = min(worst, float(np.min(sv[:, -1] / sv[:, 0])))
+        # hardening fix: an all-zero M (one stage, h*lambda*a_11 = 1: the implicit midpoint
+        # rule at h*lambda = 2) gave 0/0 = nan, which min() skips, and then an unhandled
+        # LinAlgError (a 500 through the API); no largest singular value means singular
+        with np.errstate(invalid="ignore", divide="ignore"):
+            ratio = np.where(sv[:, 0] > 0, sv[:, -1] / sv[:, 0], 0.0)
+        worst = min(worst, float(np.min(ratio)))
         if worst < SINGULAR_RCOND:
             raise _Singular(worst)
         W = np.linalg.solve(M, np.ones((zc.size, s, 1), dtype=complex))[..., 0]
@@ -912,6 +917,15 @@ def _verify(scheme, h, system, steps, seed, starting, normality) -> VerifyResult
     if steps * system.n > MAX_VERIFY_WORK:
         raise LimitExceeded("steps", f"{steps} steps of {system.n} unknowns; at most "
                                      f"{MAX_VERIFY_WORK} unknown-steps per run")
+    # hardening fix: h * lambda beyond the double range cannot be stepped; it reached the
+    # exact R(z) fallback as infinity and raised OverflowError (a 500 through the API, found
+    # by fuzzing: rkc10, h = 8.6e299, lambda = 7e16 + 5e16i)
+    with np.errstate(over="ignore"):
+        reach = h * system.one_norm()
+    if not math.isfinite(reach):
+        raise InputError("step", f"h = {h:.6g} times the size of J ({system.one_norm():.6g}, "
+                                 "largest |lambda| or ||J||_1) overflows floating point: no "
+                                 "step of this size can be stepped")
     rng = np.random.default_rng(seed)
     if system.real:
         u0 = rng.standard_normal(system.n)

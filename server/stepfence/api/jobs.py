@@ -147,7 +147,16 @@ class JobManager:
                                      daemon=True)
             job.started = time.monotonic()
             job.state, job.message = "reading", "starting the solver process"
-            proc.start()
+            try:
+                proc.start()
+            except Exception as e:  # noqa: BLE001 - no process, no hang: the job says why
+                child.close()
+                parent.close()
+                self._finish(job, "failed", "the solver process could not start",
+                             error={"field": field, "message": "the solver process could not "
+                                    f"start ({type(e).__name__})", "detail": f"{field}: no "
+                                    "solver process", "status": 500})
+                return
             child.close()
             self._procs[job.id] = proc
             try:

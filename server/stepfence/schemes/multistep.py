@@ -54,8 +54,12 @@ def _strip_common_zeta_power(alpha, beta):
 
 def common_factor(alpha, beta):
     """Return gcd(rho, sigma) as a sympy expression in ZETA (1 when irreducible)."""
-    rho = sp.Poly(list(reversed(alpha)), ZETA)
-    sigma = sp.Poly(list(reversed(beta)), ZETA)
+    # hardening fix: coefficients with radicals need the algebraic field; in sympy's default
+    # expression domain the gcd of a 12-step sigma with sqrt(2) and sqrt(3) ran for minutes
+    opts = {} if all(sp.sympify(c).is_Rational for c in list(alpha) + list(beta)) else \
+        {"extension": True}
+    rho = sp.Poly(list(reversed(alpha)), ZETA, **opts)
+    sigma = sp.Poly(list(reversed(beta)), ZETA, **opts)
     if sigma.is_zero:
         return rho.as_expr()
     g = sp.gcd(rho, sigma)
@@ -95,8 +99,13 @@ def multistep(alpha, beta, name="custom", label="custom multistep method",
     if k > limits.MAX_STEPS:
         raise InputError("alpha", f"has {k} steps; at most {limits.MAX_STEPS} are supported")
     lead = alpha[-1]
-    alpha = [sp.nsimplify(a / lead) if not (a / lead).is_Rational else a / lead for a in alpha]
-    beta = [sp.nsimplify(b / lead) if not (b / lead).is_Rational else b / lead for b in beta]
+    # hardening fix: nsimplify only numbers holding floats. On an exact irrational it guesses
+    # a "simpler" number and can return a different one: sqrt(2)/12 - sqrt(3)/15 + 1/13 became
+    # 216*2**(37/49)*3**(25/49)*5**(31/49)*7**(8/49)/30625 (5.8e-18 away)
+    alpha = [sp.nsimplify(a / lead) if (a / lead).has(sp.Float) else sp.radsimp(a / lead)
+             for a in alpha]
+    beta = [sp.nsimplify(b / lead) if (b / lead).has(sp.Float) else sp.radsimp(b / lead)
+            for b in beta]
     rho = sum(a * ZETA**j for j, a in enumerate(alpha))
     sigma = sum(b * ZETA**j for j, b in enumerate(beta))
     pi = StabilityPolynomial.from_expr(rho - Z * sigma)

@@ -160,7 +160,10 @@ def _scan_line(text: str, field: str, line: int) -> list[Token]:
 
 def _is_header(text: str) -> bool:
     fields = [f for f in _FIELD_SPLIT.split(text.strip()) if f]
-    return bool(fields) and all(_WORD.fullmatch(f) for f in fields)
+    # hardening fix: 'nan' or 'inf' alone on the first line is a non-finite value, not a
+    # header; it was skipped with only a note, silently dropping the eigenvalue
+    return bool(fields) and all(_WORD.fullmatch(f) and not _NONFINITE.fullmatch(f)
+                                for f in fields)
 
 
 def scan_number_lines(text: str, field: str = "eigenvalues",
