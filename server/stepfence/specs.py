@@ -68,6 +68,37 @@ def _bounded_radicals(values, field: str) -> None:
                                    "analysis to seconds)")
 
 
+# Hardening bound: the nonzero coefficients of a typed-in scheme's pi(zeta, z) may span at most
+# this ratio in magnitude. The floating-point stages (ray resultants, raster, locus) square
+# and multiply coefficients; rho = zeta + 1e300 overflowed them into an SVD failure (found by
+# fuzzing). The Taylor polynomial of degree 64 spans 64! ~ 1.3e89 and passes; no published
+# method comes near. Catalogue schemes are not checked (RKC's monomial form spans more, and
+# it is evaluated in Chebyshev form).
+MAX_COEFFICIENT_RANGE = 1e100
+
+
+def _bounded_range(scheme: Scheme, field: str, z_field: str | None = None) -> Scheme:
+    """Refuse a typed-in scheme whose coefficients span more than MAX_COEFFICIENT_RANGE.
+
+    For a multistep method the column z^0 of pi is rho and z^1 is -sigma: the field named is
+    the one holding the coefficient farther from 1 in magnitude (field for z^0, z_field else).
+    """
+    import numpy as np
+    grid = np.abs(np.asarray(scheme.pi.numeric, dtype=complex))
+    mags = grid[grid > 0]
+    if mags.size and (not np.all(np.isfinite(mags))
+                      or mags.max() > MAX_COEFFICIENT_RANGE * mags.min()):
+        if z_field is not None:
+            big, small = mags.max(), mags.min()
+            target = big if np.log(big) >= -np.log(small) else small
+            column = int(np.argwhere(grid == target)[0][1])
+            field = field if column == 0 else z_field
+        raise LimitExceeded(field, f"has coefficients from {mags.min():.3g} to {mags.max():.3g} "
+                                   f"in magnitude; their ratio may be at most "
+                                   f"{MAX_COEFFICIENT_RANGE:.0e} (rescale h instead)")
+    return scheme
+
+
 def _renamed_multistep(alpha, beta, label):
     # the multistep builder names its own fields (alpha, beta); a user who typed rho and sigma
     # must see those names (a 13-step rho was reported as "alpha: has 13 steps")
@@ -120,9 +151,9 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
                              expected="deg sigma <= deg rho")
         _bounded_radicals(list(rho) + list(sigma),
                           "rho" if _sqrt_rank(_square_roots(rho)) > MAX_SQRT_RANK else "sigma")
-        return _renamed_multistep(list(rho) + [0] * (n - len(rho)),
-                                  list(sigma) + [0] * (n - len(sigma)),
-                                  "custom multistep (rho, sigma)")
+        return _bounded_range(_renamed_multistep(list(rho) + [0] * (n - len(rho)),
+                                                 list(sigma) + [0] * (n - len(sigma)),
+                                                 "custom multistep (rho, sigma)"), "rho", "sigma")
     if "alpha" in keys or "beta" in keys:
         if "alpha" not in keys or "beta" not in keys:
             missing = "alpha" if "alpha" not in keys else "beta"
@@ -130,13 +161,15 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
         alpha = _numbers(spec["alpha"], "alpha")
         beta = _numbers(spec["beta"], "beta")
         _bounded_radicals(list(alpha) + list(beta), "beta")
-        return ms.multistep(alpha, beta, label="custom multistep (alpha, beta)")
+        return _bounded_range(ms.multistep(alpha, beta, label="custom multistep (alpha, beta)"),
+                              "alpha", "beta")
     if "tableau" in keys:
         from .schemes.butcher import ButcherTableau
         tab = ButcherTableau.from_json(spec["tableau"], field="tableau")
         _bounded_radicals(list(tab.A) + list(tab.b) + list(tab.c) + list(tab.b_embedded or ()),
                           "tableau")
-        return one_step.from_tableau(tab, name="custom", label="custom Runge-Kutta tableau")
+        return _bounded_range(one_step.from_tableau(tab, name="custom",
+                                                    label="custom Runge-Kutta tableau"), "tableau")
     if "stability" in keys:
         num, den = polytext.parse_rational_function(str(spec["stability"]), "stability", "z")
         _bounded_radicals(list(num) + list(den), "stability")
@@ -146,7 +179,7 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
         if stages is not None:
             if not isinstance(stages, int) or isinstance(stages, bool) or stages < 1 or stages > 64:
                 raise InputError("stages", "must be an integer from 1 to 64")
-        return one_step.from_stability_function(P, Q, stages=stages)
+        return _bounded_range(one_step.from_stability_function(P, Q, stages=stages), "stability")
     if "predictor" in keys or "corrector" in keys:
         if "predictor" not in keys or "corrector" not in keys:
             raise InputError("predictor" if "predictor" not in keys else "corrector",

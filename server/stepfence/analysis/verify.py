@@ -737,6 +737,9 @@ def _exact_eval(N, D, z: complex) -> complex:
 
 def _poly_coefficients(expr) -> list:
     poly = sp.Poly(sp.expand(expr), Z)
+    if poly.is_zero:
+        # R(z) = 0 (found by fuzzing: degree -oo was a TypeError, a 500 through the API)
+        return [sp.Integer(0)]
     return [poly.coeff_monomial(Z**j) for j in range(poly.degree() + 1)]
 
 
