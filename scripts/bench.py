@@ -10,6 +10,9 @@
 3. Dense eigenvalues N = 2000: one BLAS thread against the default (threadpoolctl).
 4. Server: analyse a 6-step scheme with region fill, and the limit of 10^4 eigenvalues, each
    as a ratio to a bare /health request (in-process ASGI client).
+5. Load on loopback (scripts/loadtest.py): 32 clients for 20 s of light requests while one
+   dense eigenvalue job solves and a second is cancelled; p50/p99 per request kind, errors,
+   and p99 under load as a ratio to the same request's unloaded time. --no-load skips it.
 """
 from __future__ import annotations
 
@@ -180,6 +183,7 @@ def bench_fill():
 def main():
     ap = argparse.ArgumentParser()
     ap.add_argument("--quick", action="store_true", help="10^5 eigenvalues, smaller samples")
+    ap.add_argument("--no-load", action="store_true", help="skip the 20 s load run")
     a = ap.parse_args()
     n = 100_000 if a.quick else 1_000_000
     bench_step_limits(n, 20 if a.quick else 100)
@@ -187,6 +191,21 @@ def main():
     bench_fill()
     bench_dense_eigs(800 if a.quick else 2000)
     bench_server()
+    if not a.no_load:
+        bench_load(8 if a.quick else 20, 32)
+
+
+def bench_load(duration, clients):
+    """Load on loopback; the figures are printed by loadtest itself, plus ratios here."""
+    sys.path.insert(0, str(__import__("pathlib").Path(__file__).resolve().parent))
+    import loadtest
+    print(f"\n== load: {clients} clients x {duration} s on 127.0.0.1, one heavy job + a cancel ==")
+    idle = loadtest.run(duration=3.0, clients=1, heavy_n=200, exercise_cancel=False, quiet=True)
+    out = loadtest.run(duration=duration, clients=clients, heavy_n=1800, quiet=False)
+    for kind, v in out["per_kind"].items():
+        base = idle["per_kind"].get(kind, {}).get("p50_ms")
+        if base and v["p99_ms"]:
+            print(f"  {kind:<10} p99 under load / p50 of one client alone: x{v['p99_ms'] / base:.1f}")
 
 
 if __name__ == "__main__":

@@ -437,3 +437,54 @@ def test_concurrent_first_limits_of_one_scheme_build_one_table(monkeypatch):
         t.join(120)
     assert len(out) == 6 and len(set(out)) == 1
     assert len(built) == 1
+
+
+def test_roots_spanning_a_hundred_orders_are_resolved(client):
+    # regression (found by fuzzing): rho = -1e-99 zeta^2 + 3 zeta + 1 did not converge in
+    # mpmath's polyroots at the default steps (a 500). Its roots, by the quadratic formula at
+    # 60 digits here: -1/3 (to 1e-99) and 3e99.
+    r = client.post("/api/analyse", json={"scheme": {"rho": "-1e-99 z^2 + 3 z + 1", "sigma": "z"},
+                                          "parts": ["describe"]})
+    assert r.status_code == 200, r.text
+    with mpmath.workdps(60):
+        a, b, c = mpmath.mpf("-1e-99"), mpmath.mpf(3), mpmath.mpf(1)
+        disc = mpmath.sqrt(b * b - 4 * a * c)
+        big = float(abs((-b - disc) / (2 * a)))
+    d = r.json()["describe"]
+    assert d["zero_stable"] is False and "not zero-stable" in d["root_condition"]
+    mods = sorted(root["modulus"] for root in d["rho_roots"])
+    assert math.isclose(mods[0], 1 / 3, rel_tol=1e-15) and math.isclose(mods[1], big, rel_tol=1e-12)
+
+
+def test_coefficients_spanning_more_than_the_range_bound_are_refused_before_exact_algebra(client):
+    # regression (found by fuzzing): sqrt(2) beside 1e300 failed inside sympy's field arithmetic
+    from stepfence.specs import MAX_COEFFICIENT_RANGE
+    body = {"scheme": {"rho": "1e300 + sqrt(2) z", "sigma": "1/2 + sqrt(3)/6"}, "eigenvalues": [[0, 0]]}
+    r = client.post("/api/limit", json=body)
+    assert r.status_code == 413 and r.json()["error"]["field"] == "rho", r.text
+    assert f"{MAX_COEFFICIENT_RANGE:.0e}" in r.json()["error"]["message"]
+    # just inside the bound the engine still answers, and correctly: sigma = 1e99 is forward
+    # Euler with h scaled by 1e99, |1 - 1e99 h| <= 1 iff h <= 2e-99
+    ok = step_limit(scheme_from_spec({"rho": "z - 1", "sigma": "1e99"}), [-1.0])
+    assert math.isclose(ok.h_max, 2e-99, rel_tol=1e-12)
+
+
+def test_verify_where_R_overflows_but_P_over_Q_does_not(client):
+    # regression (found by fuzzing): R = P/Q was rounded as P and Q apart. Gauss6 at
+    # |h lambda| = 1e60 has |P|, |Q| ~ 1e180 but |R| -> 1 (R is the (3,3) Pade approximant of
+    # e^z, |R(iy)| = 1 on the imaginary axis; Hairer & Wanner II, 2nd ed., section IV.3, from
+    # memory); rkc10 at |z| = 6.7e35 has |R| ~ 1e358: no step of that size can be stepped.
+    r = client.post("/api/verify", json={"scheme": "gauss6", "h": 1e60, "eigenvalues": [[0, 1]], "steps": 3})
+    assert r.status_code == 200, r.text
+    assert r.json()["norms"] == pytest.approx([1.0, 1.0, 1.0, 1.0], rel=1e-9)
+    r = client.post("/api/verify", json={"scheme": "rkc10", "h": 1.681676006816409e19,
+                                         "eigenvalues": [[0.0, 3.9881422529285656e16]], "steps": 2})
+    assert r.status_code == 422 and r.json()["error"]["field"] == "step", r.text
+
+
+def test_verify_stability_function_zero_kills_every_mode(client):
+    # regression (found by fuzzing): R(z) = 0 had no degree (a TypeError, a 500); u_1 = 0
+    r = client.post("/api/verify", json={"scheme": {"stability": "0"}, "h": 1.0,
+                                         "eigenvalues": [[-1, 0], [0, 0]], "steps": 2})
+    assert r.status_code == 200, r.text
+    assert r.json()["norms"][0] == pytest.approx(1.0, rel=1e-15) and r.json()["norms"][1] == 0.0

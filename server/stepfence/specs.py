@@ -99,6 +99,21 @@ def _bounded_range(scheme: Scheme, field: str, z_field: str | None = None) -> Sc
     return scheme
 
 
+def _bounded_values(values, field: str) -> None:
+    """Refuse typed coefficients spanning more than MAX_COEFFICIENT_RANGE before any exact
+    algebra: sympy's field arithmetic with sqrt(2) beside 1e300 failed inside (found by
+    fuzzing). The built polynomial is checked again by _bounded_range."""
+    mags = []
+    for v in values:
+        m = abs(complex(sp.N(v, 20)))
+        if m != 0:
+            mags.append(m)
+    if mags and max(mags) > MAX_COEFFICIENT_RANGE * min(mags):
+        raise LimitExceeded(field, f"has coefficients from {min(mags):.3g} to {max(mags):.3g} "
+                                   f"in magnitude; their ratio may be at most "
+                                   f"{MAX_COEFFICIENT_RANGE:.0e} (rescale h instead)")
+
+
 def _renamed_multistep(alpha, beta, label):
     # the multistep builder names its own fields (alpha, beta); a user who typed rho and sigma
     # must see those names (a 13-step rho was reported as "alpha: has 13 steps")
@@ -149,6 +164,9 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
         if len(sigma) > len(rho):
             raise InputError("sigma", f"has degree {len(sigma) - 1} above rho's degree {len(rho) - 1}",
                              expected="deg sigma <= deg rho")
+        _bounded_values(rho, "rho")
+        _bounded_values(sigma, "sigma")
+        _bounded_values(list(rho) + list(sigma), "sigma")
         _bounded_radicals(list(rho) + list(sigma),
                           "rho" if _sqrt_rank(_square_roots(rho)) > MAX_SQRT_RANK else "sigma")
         return _bounded_range(_renamed_multistep(list(rho) + [0] * (n - len(rho)),
@@ -160,18 +178,23 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
             raise InputError(missing, "is empty; a multistep method needs alpha and beta")
         alpha = _numbers(spec["alpha"], "alpha")
         beta = _numbers(spec["beta"], "beta")
+        _bounded_values(alpha, "alpha")
+        _bounded_values(beta, "beta")
+        _bounded_values(list(alpha) + list(beta), "beta")
         _bounded_radicals(list(alpha) + list(beta), "beta")
         return _bounded_range(ms.multistep(alpha, beta, label="custom multistep (alpha, beta)"),
                               "alpha", "beta")
     if "tableau" in keys:
         from .schemes.butcher import ButcherTableau
         tab = ButcherTableau.from_json(spec["tableau"], field="tableau")
-        _bounded_radicals(list(tab.A) + list(tab.b) + list(tab.c) + list(tab.b_embedded or ()),
-                          "tableau")
+        entries = list(tab.A) + list(tab.b) + list(tab.c) + list(tab.b_embedded or ())
+        _bounded_values(entries, "tableau")
+        _bounded_radicals(entries, "tableau")
         return _bounded_range(one_step.from_tableau(tab, name="custom",
                                                     label="custom Runge-Kutta tableau"), "tableau")
     if "stability" in keys:
         num, den = polytext.parse_rational_function(str(spec["stability"]), "stability", "z")
+        _bounded_values(list(num) + list(den), "stability")
         _bounded_radicals(list(num) + list(den), "stability")
         P = sum(c * Z**i for i, c in enumerate(num))
         Q = sum(c * Z**i for i, c in enumerate(den))

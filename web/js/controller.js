@@ -46,7 +46,9 @@ export function createController(store) {
         ch.abort = ac;
         const seq = ++ch.seq;
         try {
-          resolve(await fn(ac.signal, () => seq === ch.seq));
+          const out = await fn(ac.signal, () => seq === ch.seq);
+          if (out !== null && out !== undefined) recovered();
+          resolve(out);
         } catch (err) {
           if (err?.name !== 'AbortError') console.error(`stepfence: ${name} failed`, err);
           resolve(undefined);
@@ -61,13 +63,27 @@ export function createController(store) {
     store.set({ notices: list });
   }
 
-  function serverTrouble(err) {
+  // Requests that failed on the server's side, asked again once any request succeeds: the
+  // editors keep the text, and the page catches up by itself when the server is back.
+  const retries = new Map();
+
+  function serverTrouble(err, retry = null) {
     if (err?.status === 0 || err?.status >= 500) {
       notice('error', `${err.message} Your input is kept; it will be used again on the next change.`, 'server');
+      if (retry) retries.set(retry[0], retry[1]);
       return true;
     }
     notice('error', null, 'server');
     return false;
+  }
+
+  function recovered() {
+    const hadNotice = (store.get().notices || []).some((n) => n.key === 'server');
+    if (!hadNotice && !retries.size) return;
+    notice('error', null, 'server');
+    const again = [...retries.values()];
+    retries.clear();
+    again.forEach((fn) => fn());
   }
 
   // --- schemes -------------------------------------------------------------------------
@@ -90,7 +106,7 @@ export function createController(store) {
       const view = state.view;
       const failed = (err) => {
         if (err?.name === 'AbortError' || !current()) throw err;
-        if (!serverTrouble(err)) store.set({ [k.error]: err.info });
+        if (!serverTrouble(err, [`analyse-${slot}`, () => analyseSlot(slot, 0)])) store.set({ [k.error]: err.info });
         else store.set({ [k.error]: { field: 'server', message: err.message } });
         keystroke[slot] = null;
         return null;
@@ -136,7 +152,7 @@ export function createController(store) {
         info = await api.analyse(spec, null, 16, ['describe'], signal);
       } catch (err) {
         if (err?.name === 'AbortError' || !current()) throw err;
-        if (!serverTrouble(err)) store.set({ [k.error]: err.info });
+        if (!serverTrouble(err, [`analyse-${slot}`, () => analyseSlot(slot, 0)])) store.set({ [k.error]: err.info });
         return null;
       }
       const now = store.get()[k.analysis];
@@ -159,7 +175,7 @@ export function createController(store) {
         data = await api.limit(specOf(state[k.scheme]), values, state.safety, signal);
       } catch (err) {
         if (err?.name === 'AbortError' || !current()) throw err;
-        serverTrouble(err);
+        serverTrouble(err, [`limit-${slot}`, () => limitSlot(slot)]);
         store.set({ [k.limitError]: err.info || { message: err.message } });
         return null;
       }
@@ -220,7 +236,7 @@ export function createController(store) {
         }
       } catch (err) {
         if (err?.name === 'AbortError' || !current()) throw err;
-        serverTrouble(err);
+        serverTrouble(err, ['spectrum', () => spectrumFromInput(0)]);
         store.set({ spectrumError: err.info || { message: err.message } });
         return null;
       }
@@ -393,7 +409,7 @@ export function createController(store) {
         for (let k = 0; k < inp.specs.length; k++) reports.push(await api.accuracy(body(k), signal));
       } catch (err) {
         if (err?.name === 'AbortError' || !current()) throw err;
-        serverTrouble(err);
+        serverTrouble(err, ['accuracy', () => refreshAccuracy(0)]);
         accuracyKey = null;   // the same input may be asked again once the trouble is gone
         store.set({ accuracyError: err.info || { message: err.message }, accuracyBusy: false });
         return null;

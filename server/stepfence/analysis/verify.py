@@ -722,8 +722,8 @@ def _exact_integer_poly(coeffs, digits: int):
     return [int(f * D) for f in fr], D
 
 
-def _exact_eval(N, D, z: complex) -> complex:
-    """Return sum N_j z^j / D for the double z, evaluated exactly in integers, then rounded."""
+def _exact_parts(N, D, z: complex) -> tuple[Fraction, Fraction]:
+    """Return (Re, Im) of sum N_j z^j / D for the double z, exactly (Fractions)."""
     re, im = Fraction(z.real), Fraction(z.imag)
     e = max(re.denominator, im.denominator)          # both powers of two
     a, bb = int(re * e), int(im * e)
@@ -732,7 +732,27 @@ def _exact_eval(N, D, z: complex) -> complex:
     for j in range(m - 1, -1, -1):
         sr, si = sr * a - si * bb + N[j] * e ** (m - j), sr * bb + si * a
     den = D * e**m
-    return complex(float(Fraction(sr, den)), float(Fraction(si, den)))
+    return Fraction(sr, den), Fraction(si, den)
+
+
+def _exact_ratio(Np, Dp, Nq, Dq, z: complex) -> complex:
+    """Return P(z)/Q(z) divided exactly, then rounded once.
+
+    hardening fix: P(z) and Q(z) were rounded apart, and either overflows a double long
+    before R does (found by fuzzing: rkc10 at |z| = 6.7e35 raised OverflowError, a 500).
+    """
+    a, b = _exact_parts(Np, Dp, z)
+    c, d = _exact_parts(Nq, Dq, z)
+    n = c * c + d * d
+    if n == 0:
+        raise InputError("step", f"h lambda = {z:.6g} is a pole of R(z): the implicit stage "
+                                 "equations are singular at this step")
+    try:
+        return complex(float((a * c + b * d) / n), float((b * c - a * d) / n))
+    except OverflowError:
+        raise InputError("step", f"|R(h lambda)| exceeds the floating-point range at h lambda = "
+                                 f"{z:.6g}: this step lies far outside the stability region "
+                                 "and cannot be stepped") from None
 
 
 def _poly_coefficients(expr) -> list:
@@ -782,7 +802,7 @@ def stability_function_values(scheme: Scheme, z) -> np.ndarray:
                           + float(np.nanmax(np.log10(1.0 + np.abs(uniq)))) * len(pc))
         Np, Dp = _exact_integer_poly(pc, digits)
         Nq, Dq = _exact_integer_poly(qc, digits)
-        exact = np.array([_exact_eval(Np, Dp, w) / _exact_eval(Nq, Dq, w) for w in uniq])
+        exact = np.array([_exact_ratio(Np, Dp, Nq, Dq, w) for w in uniq])
         R[bad] = exact[inverse]
     return R
 
