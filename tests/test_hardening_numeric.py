@@ -488,3 +488,15 @@ def test_verify_stability_function_zero_kills_every_mode(client):
                                          "eigenvalues": [[-1, 0], [0, 0]], "steps": 2})
     assert r.status_code == 200, r.text
     assert r.json()["norms"][0] == pytest.approx(1.0, rel=1e-15) and r.json()["norms"][1] == 0.0
+
+
+def test_inconsistent_method_with_every_root_inside_is_not_said_to_have_root_one():
+    # a new user's typo: alpha = 1, 2, 3 gives rho = 3 zeta^2 + 2 zeta + 1, rho(1) = 6 != 0.
+    # numpy's roots: modulus sqrt(1/3) twice, so zeta = 1 is no root and nothing is on the circle
+    s = scheme_from_spec({"alpha": "1, 2, 3", "beta": "1, 1"})
+    mods = np.abs(np.roots([3, 2, 1]))
+    assert np.allclose(mods, math.sqrt(1 / 3))
+    d = describe(s)
+    assert d["zero_stable"] is True and d["order"] == 0
+    assert "zeta = 1 is not a root" in d["root_condition"]
+    assert "only root on the unit circle" not in d["root_condition"]

@@ -110,7 +110,10 @@ def root_condition(scheme: Scheme) -> RootCondition:
                 parts.append(f"root {_fmt(r.value)} on the unit circle has multiplicity {r.multiplicity}")
         verdict = "not zero-stable: " + "; ".join(parts)
     elif strongly:
-        verdict = "zero-stable, strongly stable (zeta = 1 is the only root on the unit circle)"
+        verdict = ("zero-stable, strongly stable (zeta = 1 is the only root on the unit circle)"
+                   if on_circle else
+                   "zero-stable: every root of rho lies inside the unit circle (zeta = 1 is not "
+                   "a root: rho(1) != 0, so the method is not consistent)")
     else:
         others = [r for r in on_circle if abs(r.value - 1) >= 1e-12]
         verdict = ("zero-stable, weakly stable: further simple roots on the unit circle at "
