@@ -8,6 +8,9 @@ import { fitAspect, pointsBox, unionBox } from './traces.js';
 import { encodeShared, HASH_PREFIX, LINK_LIMIT, toShared } from './share-state.js';
 
 export const TYPE_DEBOUNCE_MS = 150;
+// The region of a scheme being typed is asked for sooner: its answer is cached or fast, and a
+// newer keystroke aborts the request in flight (measured in tests/test_browser.py).
+export const REGION_DEBOUNCE_MS = 50;
 const VIEW_DEBOUNCE_MS = 220;
 const DESCRIBE_DELAY_MS = 350;
 const SHARE_DEBOUNCE_MS = 350;
@@ -96,7 +99,7 @@ export function createController(store) {
   }
 
   // Region first (fast, redrawn while typing), then the slower properties of the scheme.
-  function analyseSlot(slot, delay = TYPE_DEBOUNCE_MS) {
+  function analyseSlot(slot, delay = REGION_DEBOUNCE_MS) {
     const k = SLOT_KEYS[slot];
     clearTimeout(channel(`describe-${slot}`).timer);
     return schedule(`analyse-${slot}`, delay, async (signal, current) => {
