@@ -500,3 +500,22 @@ def test_inconsistent_method_with_every_root_inside_is_not_said_to_have_root_one
     assert d["zero_stable"] is True and d["order"] == 0
     assert "zeta = 1 is not a root" in d["root_condition"]
     assert "only root on the unit circle" not in d["root_condition"]
+
+
+def test_accuracy_limit_at_magnitudes_1e_minus_300_to_1e300(client):
+    # regression (found by fuzzing; the earlier answer for -1e300 was "no limit"): per step the
+    # local error depends on z = h lambda only. Reference: the root x of
+    # |R(-x) e^x - 1| = 1e-6 for RK4's R (the degree-4 Taylor polynomial), by mpmath bisection
+    # at 40 digits here; then h = x / |lambda| for every magnitude.
+    with mpmath.workdps(40):
+        g = lambda x: abs(_rk4_R(-x) * mpmath.exp(x) - 1) - mpmath.mpf("1e-6")
+        x = float(mpmath.findroot(g, (mpmath.mpf("0.05"), mpmath.mpf("0.5")), solver="bisect"))
+    for m in (1e-300, 1e-100, 1.0, 1e100, 1e300):
+        r = client.post("/api/accuracy", json={"scheme": "rk4", "eigenvalues": [[-m, 0]], "tol": 1e-6})
+        assert r.status_code == 200, r.text
+        assert r.json()["accuracy_limit"]["h_max"] == pytest.approx(x / m, rel=1e-9), m
+    # per unit time the tolerance scales with |lambda|: outside 1e-50..1e50 refused with the bound
+    r = client.post("/api/accuracy", json={"scheme": "rk4", "eigenvalues": [[-1e300, 0]],
+                                           "tol": 1e-6, "per": "unit-time"})
+    assert r.status_code == 413 and r.json()["error"]["field"] == "eigenvalues"
+    assert "1e+50" in r.json()["error"]["message"]

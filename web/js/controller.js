@@ -216,7 +216,9 @@ export function createController(store) {
     const finite = activeSlots(state).map((s) => state[SLOT_KEYS[s].limit]?.h_max).filter((x) => x > 0);
     if (finite.length) return Math.min(...finite);
     const vals = state.spectrum?.values || [];
-    const big = Math.max(0, ...vals.map(([re, im]) => Math.hypot(re, im)));
+    // a loop, not Math.max(...vals): spreading 10^5 arguments overflows the call stack
+    let big = 0;
+    for (const [re, im] of vals) big = Math.max(big, Math.hypot(re, im));
     return big > 0 ? 1 / big : null;
   }
 

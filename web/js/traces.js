@@ -91,8 +91,7 @@ export function regionTraces(region, style, name, axes) {
   const y = [];
   for (const br of region.branches) {
     if (x.length) { x.push(null); y.push(null); }
-    x.push(...br.x);
-    y.push(...br.y);
+    for (let i = 0; i < br.x.length; i++) { x.push(br.x[i]); y.push(br.y[i]); }
   }
   out.push({
     type: 'scatter', mode: 'lines', x, y, name: `boundary locus ${style.tag}: ${name}`,

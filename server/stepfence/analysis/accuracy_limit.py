@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..errors import InputError
+from ..errors import InputError, LimitExceeded
 from ..schemes.base import Scheme
 from .dispersion import (continue_roots, along_spectrum, distinct_points, imaginary_axis_curves,
                          principal_error_constant, principal_root, relative_step_error,
@@ -82,6 +82,10 @@ class AccuracyLimit:
     error_constant: object
     count: int
     messages: tuple = field(default_factory=tuple)
+
+
+# per unit time, eigenvalue magnitudes accepted (see accuracy_limited_step)
+UNIT_TIME_MAGNITUDE = 1e50
 
 
 def _validated_tol(tol, per) -> float:
@@ -295,7 +299,25 @@ def accuracy_limited_step(scheme: Scheme, eigenvalues, tol: float, per: str = "s
         raise InputError("scheme", "is not consistent (order < 1): no accuracy limit exists")
     c = abs(complex(c_exact))
     nz = lam != 0
-    distinct, inverse, _ = distinct_points(poly, lam[nz])
+    # Per step the criterion depends on z = h lambda alone, so h_acc(lambda) =
+    # h_acc(lambda/|lambda|) / |lambda|: the search runs on unit eigenvalues and the steps are
+    # scaled back. (hardening fix: without it |lambda| = 1e100 overflowed the scan into "no
+    # limit" and 1e-100 into an error; found by fuzzing.) Per unit time the tolerance itself
+    # scales with |lambda|, so magnitudes are bounded there instead.
+    scale = np.ones(int(nz.sum()))
+    if per == "step":
+        scale = np.abs(lam[nz])
+        work = lam[nz] / scale
+    else:
+        mags = np.abs(lam[nz])
+        if mags.size and (mags.max() > UNIT_TIME_MAGNITUDE or mags.min() < 1 / UNIT_TIME_MAGNITUDE):
+            raise LimitExceeded("eigenvalues", f"per unit time the accuracy analysis takes "
+                                               f"|lambda| from {1 / UNIT_TIME_MAGNITUDE:g} to "
+                                               f"{UNIT_TIME_MAGNITUDE:g} (here {mags.min():.3g} "
+                                               f"to {mags.max():.3g}); rescale time, or use "
+                                               "the per-step tolerance, which takes any size")
+        work = lam[nz]
+    distinct, inverse, _ = distinct_points(poly, work)
     mod = np.abs(distinct)
     a = (c if c > 0 else 1.0) * mod ** (p + 1)
     h0 = (tol / a) ** (1.0 / (p + 1)) if per == "step" else (tol / a) ** (1.0 / p)
@@ -335,9 +357,9 @@ def accuracy_limited_step(scheme: Scheme, eigenvalues, tol: float, per: str = "s
                             "from the leading error term |C'| |h lambda|^(p+1), whichever is "
                             "closer)")
     per_all = np.full(lam.size, np.inf)
-    per_all[nz] = per_distinct[inverse]
+    per_all[nz] = per_distinct[inverse] / scale
     asym = np.full(lam.size, np.inf)
-    asym[nz] = h0[inverse]
+    asym[nz] = h0[inverse] / scale
     n_zero = int((~nz).sum())
     if n_zero:
         messages.append(f"{n_zero} zero eigenvalue(s): no accuracy restriction (a consistent "
