@@ -107,3 +107,29 @@ def test_a_link_from_a_newer_version_restores_what_it_can(ctx, live_server):  # 
     assert p2.input_value("[data-field=h]") == "0.1"
     _settled(p2)
     _shot(p2, "link-newer-version.png")
+
+
+def test_two_hundred_thousand_pasted_eigenvalues(ctx, live_server):  # noqa: F811
+    # regression: Math.max(...values) over 2e5 values overflowed the call stack, no limit was
+    # asked for and the previous readout stayed. The text is set in one input event, as a paste
+    # is (Playwright's fill types it as key events, which takes minutes). Invented data.
+    import numpy as np
+    from stepfence import get_scheme, step_limit
+    n = 200_000
+    rng = np.random.default_rng(1)
+    lam = -rng.lognormal(0, 2, n) + 1j * rng.normal(0, 3, n)
+    text = "\n".join(f"{z.real:.6g}{z.imag:+.6g}i" for z in lam)
+    want = step_limit(get_scheme("bdf4"), np.array([complex(t.replace("i", "j")) for t in text.split("\n")])).h_max
+    context, watch = ctx
+    page = _open(context, watch, live_server + "/")
+    _settled(page)
+    page.click(".spectrum-panel .tabs__tab[data-mode=text]")
+    page.evaluate("t => { const e = document.querySelector('.spectrum-panel [data-field=text]'); "
+                  "e.value = t; e.dispatchEvent(new Event('input', { bubbles: true })); }", text)
+    page.wait_for_function(f"window.__stepfence.store.get().spectrum?.values?.length === {n} && "
+                           "window.__stepfence.store.get().limitA?.h_max > 0", timeout=120_000)
+    got = page.evaluate("window.__stepfence.store.get().limitA.h_max")
+    assert got == pytest.approx(want, rel=1e-12)
+    page.wait_for_function(f"document.querySelector('.readout[data-slot=a] [data-role=h-max]')"
+                           f"?.dataset.value === '{got!r}'", timeout=60_000)
+    assert not watch.errors
