@@ -1,7 +1,8 @@
 """Fuzzing the HTTP API: no request, however odd, gets a server error.
 
 Two generators, both bounded in examples (and so in time) and derandomised so the suite is
-reproducible; STEPFENCE_FUZZ_EXAMPLES raises the count for a deeper run by hand:
+reproducible; STEPFENCE_FUZZ_EXAMPLES raises the count and STEPFENCE_FUZZ_RANDOM=1 draws
+fresh examples, for deeper runs by hand:
 
 * schemathesis reads /openapi.json and drives every operation with schema-shaped and
   schema-breaking requests (its example, coverage and fuzzing phases);
@@ -30,7 +31,9 @@ from stepfence.api.settings import Settings
 from stepfence.schemes.catalogue import LISTED
 
 EXAMPLES = int(os.environ.get("STEPFENCE_FUZZ_EXAMPLES", "25"))
-FUZZ = settings(max_examples=EXAMPLES, deadline=None, derandomize=True, database=None,
+# STEPFENCE_FUZZ_RANDOM=1 draws fresh examples (by hand only: the suite must be reproducible)
+FUZZ = settings(max_examples=EXAMPLES, deadline=None, database=None,
+                derandomize=os.environ.get("STEPFENCE_FUZZ_RANDOM") != "1",
                 suppress_health_check=list(HealthCheck))
 
 # small bounds keep each fuzzed request cheap (the bounds themselves are tested in
