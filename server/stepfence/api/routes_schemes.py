@@ -30,7 +30,8 @@ def _check_view(view, settings: Settings):
         if not lo < hi:
             raise InputError(f"view.{name}", f"must be [low, high] with low < high, got [{lo}, {hi}]")
         if hi - lo < 1e-12 * max(1.0, abs(lo), abs(hi)):
-            raise InputError(f"view.{name}", "is too narrow to draw")
+            raise InputError(f"view.{name}", f"is too narrow to draw: width {hi - lo:.3g}; at "
+                                             "least 1e-12 times max(1, |low|, |high|)")
         if max(abs(lo), abs(hi)) > 1e12:
             raise InputError(f"view.{name}", "reaches beyond |z| = 1e12")
 
