@@ -274,3 +274,32 @@ def test_load_short_no_errors_and_light_requests_answered_during_a_heavy_job():
     assert out["light_answered_during_heavy"] > 0, out["heavy"]
     assert out["cancel"] and out["cancel"]["state"] == "cancelled", out["cancel"]
     assert out["job_time_limit_seconds"] == limits.MAX_JOB_SECONDS
+
+
+# --- no user text evaluated, anywhere in the server ----------------------------------------
+
+def test_server_never_hands_text_to_sympy_or_eval():
+    # polytext is the one reader of text (its own test patches eval and sympify to fail);
+    # everywhere else sympify must be strict, which refuses strings instead of parsing them
+    import re
+    code_files = sorted((ROOT / "server" / "stepfence").rglob("*.py"))
+    assert len(code_files) > 30
+    for path in code_files:
+        code = "\n".join(line for line in path.read_text().splitlines()
+                         if not line.lstrip().startswith("#"))
+        code = re.sub(r'"""[\s\S]*?"""', "", code)
+        for pattern in (r"(?<![\w.])eval\(", r"(?<![\w.])exec\(", r"parse_expr\(", r"\bsp\.S\(",
+                        r"(?<![\w.])compile\(",
+                        r"sympify\((?![^()\n]*strict=True)"):
+            assert not re.search(pattern, code), (path.name, pattern)
+
+
+def test_python_api_refuses_text_where_numbers_are_expected():
+    import sympy as sp
+    from stepfence.schemes import multistep as ms
+    from stepfence.schemes import one_step
+    for call in (lambda: ms.multistep(["-1", "1"], ["__import__('os')", "0"]),
+                 lambda: ms.theta_method("1/2"),
+                 lambda: one_step.from_stability_function("1 + z")):
+        with pytest.raises(sp.SympifyError):
+            call()

@@ -39,7 +39,7 @@ def _num(x):
 def _exact_text(x) -> str | None:
     if x is None:
         return None
-    x = sp.sympify(x)
+    x = sp.sympify(x, strict=True)
     if x.atoms(sp.Float):
         return f"{float(x):.15g} (from coefficients rounded to 50 digits)"
     try:

@@ -34,7 +34,7 @@ MAX_SQRT_RANK = 2
 def _square_roots(values) -> set:
     """Return the radicands q of the square roots sqrt(q) in exact values (sympy keeps q
     square-free: sqrt(8) is 2*sqrt(2))."""
-    return {p.base for v in values for p in sp.sympify(v).atoms(sp.Pow)
+    return {p.base for v in values for p in sp.sympify(v, strict=True).atoms(sp.Pow)
             if p.exp.is_Rational and p.exp.q == 2}
 
 

@@ -516,7 +516,8 @@ def principal_error_constant(scheme: Scheme):
     if scheme.kind == "multistep":
         c = -c
     # hardening fix: nsimplify only floats (it can change an exact irrational; see multistep)
-    return int(p), (sp.nsimplify(c) if sp.sympify(c).has(sp.Float) else sp.sympify(c))
+    c = sp.sympify(c, strict=True)
+    return int(p), (sp.nsimplify(c) if c.has(sp.Float) else c)
 
 
 def distinct_points(pi, z):

@@ -54,7 +54,7 @@ class RootCondition:
 
 def exact_roots(coeffs_ascending) -> list[Root]:
     """Return the roots of sum c_i zeta^i with exact multiplicities."""
-    expr = sum(sp.sympify(c) * ZETA**i for i, c in enumerate(coeffs_ascending))
+    expr = sum(sp.sympify(c, strict=True) * ZETA**i for i, c in enumerate(coeffs_ascending))
     poly = sp.Poly(sp.expand(expr), ZETA, extension=True) if expr.free_symbols else None
     if poly is None or poly.degree() < 1:
         return []

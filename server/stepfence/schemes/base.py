@@ -83,7 +83,7 @@ class Scheme:
 def poly_text(coeffs_ascending, var: str = "zeta") -> str:
     """Return readable text of a polynomial from ascending exact coefficients."""
     x = sp.Symbol(var)
-    expr = sp.Add(*[sp.sympify(c) * x**i for i, c in enumerate(coeffs_ascending)])
+    expr = sp.Add(*[sp.sympify(c, strict=True) * x**i for i, c in enumerate(coeffs_ascending)])
     if expr == 0:
         return "0"
     return str(sp.expand(expr)).replace("**", "^")

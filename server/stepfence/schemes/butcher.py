@@ -97,7 +97,7 @@ def exact_entry(value: Any, field: str, where: str) -> sp.Expr:
             parsed = parse_number(value, field)
         except InputError as err:
             raise _renamed(err, field, f"{where}: ") from err
-        return _checked_number(sp.sympify(parsed), field, where)
+        return _checked_number(sp.sympify(parsed, strict=True), field, where)
     if isinstance(value, numbers.Integral):
         return sp.Integer(int(value))
     if isinstance(value, Fraction):

@@ -56,8 +56,8 @@ def common_factor(alpha, beta):
     """Return gcd(rho, sigma) as a sympy expression in ZETA (1 when irreducible)."""
     # hardening fix: coefficients with radicals need the algebraic field; in sympy's default
     # expression domain the gcd of a 12-step sigma with sqrt(2) and sqrt(3) ran for minutes
-    opts = {} if all(sp.sympify(c).is_Rational for c in list(alpha) + list(beta)) else \
-        {"extension": True}
+    rational = all(sp.sympify(c, strict=True).is_Rational for c in list(alpha) + list(beta))
+    opts = {} if rational else {"extension": True}
     rho = sp.Poly(list(reversed(alpha)), ZETA, **opts)
     sigma = sp.Poly(list(reversed(beta)), ZETA, **opts)
     if sigma.is_zero:
@@ -76,8 +76,12 @@ def multistep(alpha, beta, name="custom", label="custom multistep method",
         Coefficients of u_{n+j} and h f_{n+j}, j = 0..k. Shorter beta is padded with zeros
         at the top (an explicit method may omit beta_k).
     """
-    alpha = [sp.nsimplify(sp.sympify(a)) if isinstance(a, float) else sp.sympify(a) for a in alpha]
-    beta = [sp.nsimplify(sp.sympify(b)) if isinstance(b, float) else sp.sympify(b) for b in beta]
+    # strict: a string here would be parsed by sympy, which evaluates it (DESIGN.md: text goes
+    # through polytext only)
+    alpha = [sp.nsimplify(sp.sympify(a, strict=True)) if isinstance(a, float)
+             else sp.sympify(a, strict=True) for a in alpha]
+    beta = [sp.nsimplify(sp.sympify(b, strict=True)) if isinstance(b, float)
+            else sp.sympify(b, strict=True) for b in beta]
     if not alpha:
         raise InputError("alpha", "is empty", expected="k + 1 coefficients alpha_0..alpha_k")
     if len(beta) > len(alpha):
@@ -193,7 +197,7 @@ def milne_simpson(k: int) -> Scheme:
 
 def theta_method(theta) -> Scheme:
     """Return u_{n+1} - u_n = h (theta f_{n+1} + (1 - theta) f_n)."""
-    theta = sp.sympify(theta)
+    theta = sp.sympify(theta, strict=True)
     if not theta.is_real or theta < 0 or theta > 1:
         raise InputError("theta", f"must lie in [0, 1], got {theta}")
     return multistep([-1, 1], [1 - theta, theta], name=f"theta:{theta}",

@@ -81,8 +81,8 @@ def from_stability_function(P, Q=1, name="custom", label="custom stability funct
                             kind="stability-function", tableau=None, evaluations=None,
                             source="", details=None, evaluator=None) -> Scheme:
     """Return the one-step Scheme with R(z) = P(z)/Q(z) (sympy expressions in Z)."""
-    P = sp.expand(sp.sympify(P))
-    Q = sp.expand(sp.sympify(Q))
+    P = sp.expand(sp.sympify(P, strict=True))
+    Q = sp.expand(sp.sympify(Q, strict=True))
     if Q == 0:
         raise InputError("stability", "the denominator Q(z) is identically zero")
     R = sp.cancel(P / Q)

@@ -52,7 +52,7 @@ class StabilityPolynomial:
     evaluator: object = field(default=None, repr=False, compare=False)
 
     def __post_init__(self):
-        rows = [tuple(sp.sympify(c) for c in row) for row in self.exact]
+        rows = [tuple(sp.sympify(c, strict=True) for c in row) for row in self.exact]
         if not rows or not rows[0]:
             raise ValueError("empty stability polynomial")
         width = max(len(r) for r in rows)
