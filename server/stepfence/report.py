@@ -5,18 +5,17 @@ The key names of `describe` and `limit_report` are the stable contract of DESIGN
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 import sympy as sp
 
 from . import polytext
-from .analysis.accuracy import Accuracy, accuracy
+from .analysis.accuracy import accuracy
 from .analysis.region import boundary_locus, region_metrics, region_raster, view_box
 from .analysis.roots import root_condition
 from .analysis.steplimit import StepLimit, enclosure_limit, step_limit
-from .schemes.base import Scheme, poly_text
+from .schemes.base import Scheme
 
 CAUTIONS = (
     "Eigenvalues decide linear stability only for normal Jacobians; a non-normal Jacobian "

@@ -18,7 +18,7 @@ from dataclasses import dataclass, field
 import sympy as sp
 
 from ..schemes.base import Scheme
-from ..schemes.stability import ZETA, Z
+from ..schemes.stability import Z
 
 MAX_ORDER_SEARCH = 40
 

@@ -18,7 +18,7 @@ import numpy as np
 import scipy.linalg
 import scipy.optimize
 
-from ..schemes.stability import StabilityPolynomial, polynomial_roots
+from ..schemes.stability import StabilityPolynomial
 
 STABLE_TOL = 1e-12       # |zeta| <= 1 + tol at interval interiors (far from the boundary)
 BOUNDARY_TOL = 1e-7      # at a crossing point itself
@@ -82,7 +82,6 @@ def _matrix_poly_eigs(slices: list[np.ndarray]) -> np.ndarray:
     Bb[(m - 1) * n:, (m - 1) * n:] = slices[m]
     w = scipy.linalg.eigvals(Aa, Bb, homogeneous_eigvals=True)
     alpha, beta = w[0], w[1]
-    scale = max(1.0, max(np.linalg.norm(s) for s in slices))
     finite = np.abs(beta) > 1e-13 * np.abs(alpha) + 1e-300
     return alpha[finite] / beta[finite]
 
@@ -105,7 +104,6 @@ def _reflect(C: np.ndarray) -> np.ndarray:
 def stability_margin(pi: StabilityPolynomial, z: complex, tol: float = STABLE_TOL) -> bool:
     """Return True when every root of pi(., z) has |zeta| <= 1 + tol, those near 1 simple."""
     c = pi.zeta_coefficients(np.asarray(z))
-    k = pi.degree_zeta
     scale = np.max(np.abs(c))
     if scale == 0:
         return False

@@ -17,7 +17,7 @@ import scipy.optimize
 from ..schemes.base import Scheme
 from ..schemes.stability import StabilityPolynomial, polynomial_roots
 from .rays import RayWindows, ray_windows, stability_margin
-from .roots import exact_roots, root_condition
+from .roots import exact_roots
 
 LOCUS_POINTS = 4096
 FAR = 1e8  # |z| beyond this on a branch is drawn as a break (the locus through infinity)
@@ -204,7 +204,6 @@ def a_alpha(pi: StabilityPolynomial, a0: bool, n: int = 8192):
     pts = np.concatenate(pts) if pts else np.array([], dtype=complex)
     if pts.size == 0:
         return (90.0 if a0 else None), None
-    scale = max(1.0, float(np.nanmax(np.abs(pts))) if pts.size else 1.0)
     min_re = float(np.min(pts.real)) if pts.size else None
     if not a0:
         return None, min_re
@@ -213,7 +212,6 @@ def a_alpha(pi: StabilityPolynomial, a0: bool, n: int = 8192):
         return 90.0, min_re
     # refine the smallest angle: locally minimise over the parameter theta on each branch
     best = float(np.min(_angle_deficit(left)))
-    m = pi.degree_z
     for b in branches:
         ok = np.isfinite(b) & (b.real < 0)
         if not np.any(ok):
@@ -256,7 +254,6 @@ def infinity_behaviour(pi: StabilityPolynomial):
     top = [row[-1] for row in pi.exact]  # coefficient of z^m, ascending in zeta
     deg = max((i for i, c in enumerate(top) if c != 0), default=0)
     k = pi.degree_zeta
-    roots = [r.value for r in exact_roots(top[: deg + 1])] if deg > 0 else []
     mult = []
     for r in exact_roots(top[: deg + 1]) if deg > 0 else []:
         mult.extend([r.value] * r.multiplicity)
@@ -284,7 +281,6 @@ def region_metrics(scheme: Scheme) -> RegionMetrics:
         alpha = 90.0
     inf_roots, inf_max = infinity_behaviour(pi)
     stiff = inf_max == 0.0
-    k = pi.degree_zeta
     if inf_max > 1 + 1e-12:
         bounded = True
     elif inf_max < 1 - 1e-12:
@@ -292,8 +288,8 @@ def region_metrics(scheme: Scheme) -> RegionMetrics:
     else:
         # roots tend to the circle: sample directions for a window reaching infinity
         dirs = np.exp(1j * np.linspace(0, 2 * np.pi, 48, endpoint=False))
-        bounded = not any(ray_windows(pi, d).windows and math.isinf(ray_windows(pi, d).windows[-1][1])
-                          for d in dirs)
+        reach = (ray_windows(pi, d).windows for d in dirs)
+        bounded = not any(w and math.isinf(w[-1][1]) for w in reach)
     xlim, ylim = view_box(pi)
     raster = region_raster(pi, xlim, ylim, 81, 81)
     empty_interior = not bool(np.any(raster.stable))

@@ -25,7 +25,7 @@ import numpy as np
 from ..errors import InputError
 from ..schemes.base import Scheme
 from ..schemes.stability import StabilityPolynomial
-from .rays import RayWindows, ray_windows
+from .rays import ray_windows
 from .roots import root_condition
 
 EXACT_DIRECTION_LIMIT = 256   # at most this many distinct directions: exact for each

@@ -10,6 +10,7 @@ from typing import Annotated, Any, Literal, Optional, Union
 from pydantic import BaseModel, ConfigDict, Field
 
 from .. import limits
+from ..analysis.accuracy_limit import TABLE_LIMIT
 
 FiniteFloat = Annotated[float, Field(allow_inf_nan=False)]
 Pair = tuple[FiniteFloat, FiniteFloat]
@@ -315,7 +316,7 @@ class AccuracyResponse(BaseModel):
     at_h: dict[str, Any] = Field(description="stable, max_relative_error, tolerance, "
                                              "meets_tolerance at the step h")
     spectrum: dict[str, Any] = Field(description=f"the along-spectrum table at h, at most "
-                                                 f"5000 rows (the worst when truncated)")
+                                                 f"{TABLE_LIMIT} rows (the worst when truncated)")
     imaginary_axis: dict[str, Any] = Field(description="omega_h, amplitude_error, phase_error, "
                                                        "spurious_max ... (null: undetermined)")
     comparison: Optional[dict[str, Any]] = Field(description="with other: work per f-evaluation "
