@@ -21,6 +21,7 @@ import statistics
 import sys
 import time
 import tracemalloc
+from pathlib import Path
 
 import numpy as np
 
@@ -197,7 +198,7 @@ def main():
 
 def bench_load(duration, clients):
     """Load on loopback; the figures are printed by loadtest itself, plus ratios here."""
-    sys.path.insert(0, str(__import__("pathlib").Path(__file__).resolve().parent))
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
     import loadtest
     print(f"\n== load: {clients} clients x {duration} s on 127.0.0.1, one heavy job + a cancel ==")
     idle = loadtest.run(duration=3.0, clients=1, heavy_n=200, exercise_cancel=False, quiet=True)

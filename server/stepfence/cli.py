@@ -152,6 +152,15 @@ def _enclosure_from_arg(text):
     return parse_enclosure(obj, field="--enclosure")
 
 
+def _print_limit_head(rep: dict) -> None:
+    """Print the summary, h_max, the safety line and h_max per evaluation of a limit report."""
+    print(rep["summary"])
+    print(f"h_max            {_fmt(rep['h_max'])}")
+    if rep["safety"] is not None:
+        print(f"safety x h_max   {_fmt(rep['h_safe'])}   (factor {rep['safety']}, not applied to h_max)")
+    print(f"per evaluation   {_fmt(rep['h_max_per_evaluation'])}  ({rep['evaluations_per_step']} evaluation(s) per step)")
+
+
 def cmd_enclosure(a, scheme) -> int:
     from .report import enclosure_report
     enc = _enclosure_from_arg(a.enclosure)
@@ -159,11 +168,7 @@ def cmd_enclosure(a, scheme) -> int:
     if a.json:
         print(json.dumps(rep, indent=2))
         return 0
-    print(rep["summary"])
-    print(f"h_max            {_fmt(rep['h_max'])}")
-    if rep["safety"] is not None:
-        print(f"safety x h_max   {_fmt(rep['h_safe'])}   (factor {rep['safety']}, not applied to h_max)")
-    print(f"per evaluation   {_fmt(rep['h_max_per_evaluation'])}  ({rep['evaluations_per_step']} evaluation(s) per step)")
+    _print_limit_head(rep)
     for m in rep["messages"]:
         print(f"note: {m}")
     print(CAUTION_LINE)
@@ -191,11 +196,7 @@ def cmd_limit(a) -> int:
     if a.json:
         print(json.dumps(rep, indent=2))
         return 0
-    print(rep["summary"])
-    print(f"h_max            {_fmt(rep['h_max'])}")
-    if rep["safety"] is not None:
-        print(f"safety x h_max   {_fmt(rep['h_safe'])}   (factor {rep['safety']}, not applied to h_max)")
-    print(f"per evaluation   {_fmt(rep['h_max_per_evaluation'])}  ({rep['evaluations_per_step']} evaluation(s) per step)")
+    _print_limit_head(rep)
     if rep["binding_eigenvalue"]:
         re_, im_ = rep["binding_eigenvalue"]
         print(f"binding          {re_:.12g}{im_:+.12g}i (index {rep['binding_index']})")

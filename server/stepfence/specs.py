@@ -77,41 +77,40 @@ def _bounded_radicals(values, field: str) -> None:
 MAX_COEFFICIENT_RANGE = 1e100
 
 
-def _bounded_range(scheme: Scheme, field: str, z_field: str | None = None) -> Scheme:
-    """Refuse a typed-in scheme whose coefficients span more than MAX_COEFFICIENT_RANGE.
-
-    For a multistep method the column z^0 of pi is rho and z^1 is -sigma: the field named is
-    the one holding the coefficient farther from 1 in magnitude (field for z^0, z_field else).
-    """
+def _refuse_wide(mags, field: str) -> None:
+    """Raise LimitExceeded on field when the magnitudes (nonzero) span more than the bound."""
     import numpy as np
-    grid = np.abs(np.asarray(scheme.pi.numeric, dtype=complex))
-    mags = grid[grid > 0]
+    mags = np.asarray(mags, dtype=float)
     if mags.size and (not np.all(np.isfinite(mags))
                       or mags.max() > MAX_COEFFICIENT_RANGE * mags.min()):
-        if z_field is not None:
-            big, small = mags.max(), mags.min()
-            target = big if np.log(big) >= -np.log(small) else small
-            column = int(np.argwhere(grid == target)[0][1])
-            field = field if column == 0 else z_field
         raise LimitExceeded(field, f"has coefficients from {mags.min():.3g} to {mags.max():.3g} "
                                    f"in magnitude; their ratio may be at most "
                                    f"{MAX_COEFFICIENT_RANGE:.0e} (rescale h instead)")
+
+
+def _bounded_values(groups: dict) -> None:
+    """Refuse typed coefficients ({field: values}) spanning more than MAX_COEFFICIENT_RANGE,
+    before any exact algebra: sympy's field arithmetic with sqrt(2) beside 1e300 failed inside
+    (found by fuzzing). The field named is the one holding the coefficient farther from 1 in
+    magnitude."""
+    import math
+    mags = {f: [m for m in (abs(complex(sp.N(v, 20))) for v in values) if m != 0]
+            for f, values in groups.items()}
+    every = [m for ms in mags.values() for m in ms]
+    if not every:
+        return
+    big, small = max(every), min(every)
+    target = big if math.log(big) >= -math.log(small) else small
+    _refuse_wide(every, next(f for f, ms in mags.items() if target in ms))
+
+
+def _bounded_range(scheme: Scheme, field: str) -> Scheme:
+    """Refuse a built scheme whose pi(zeta, z) coefficients span more than the bound (for a
+    tableau or R(z) they are products and quotients of what was typed)."""
+    import numpy as np
+    grid = np.abs(np.asarray(scheme.pi.numeric, dtype=complex))
+    _refuse_wide(grid[grid > 0], field)
     return scheme
-
-
-def _bounded_values(values, field: str) -> None:
-    """Refuse typed coefficients spanning more than MAX_COEFFICIENT_RANGE before any exact
-    algebra: sympy's field arithmetic with sqrt(2) beside 1e300 failed inside (found by
-    fuzzing). The built polynomial is checked again by _bounded_range."""
-    mags = []
-    for v in values:
-        m = abs(complex(sp.N(v, 20)))
-        if m != 0:
-            mags.append(m)
-    if mags and max(mags) > MAX_COEFFICIENT_RANGE * min(mags):
-        raise LimitExceeded(field, f"has coefficients from {min(mags):.3g} to {max(mags):.3g} "
-                                   f"in magnitude; their ratio may be at most "
-                                   f"{MAX_COEFFICIENT_RANGE:.0e} (rescale h instead)")
 
 
 def _renamed_multistep(alpha, beta, label):
@@ -164,37 +163,33 @@ def scheme_from_spec(spec: Any, field: str = "scheme") -> Scheme:
         if len(sigma) > len(rho):
             raise InputError("sigma", f"has degree {len(sigma) - 1} above rho's degree {len(rho) - 1}",
                              expected="deg sigma <= deg rho")
-        _bounded_values(rho, "rho")
-        _bounded_values(sigma, "sigma")
-        _bounded_values(list(rho) + list(sigma), "sigma")
+        _bounded_values({"rho": rho, "sigma": sigma})
         _bounded_radicals(list(rho) + list(sigma),
                           "rho" if _sqrt_rank(_square_roots(rho)) > MAX_SQRT_RANK else "sigma")
-        return _bounded_range(_renamed_multistep(list(rho) + [0] * (n - len(rho)),
-                                                 list(sigma) + [0] * (n - len(sigma)),
-                                                 "custom multistep (rho, sigma)"), "rho", "sigma")
+        # rho and sigma are the columns of pi: the check above covers the built scheme
+        return _renamed_multistep(list(rho) + [0] * (n - len(rho)),
+                                  list(sigma) + [0] * (n - len(sigma)),
+                                  "custom multistep (rho, sigma)")
     if "alpha" in keys or "beta" in keys:
         if "alpha" not in keys or "beta" not in keys:
             missing = "alpha" if "alpha" not in keys else "beta"
             raise InputError(missing, "is empty; a multistep method needs alpha and beta")
         alpha = _numbers(spec["alpha"], "alpha")
         beta = _numbers(spec["beta"], "beta")
-        _bounded_values(alpha, "alpha")
-        _bounded_values(beta, "beta")
-        _bounded_values(list(alpha) + list(beta), "beta")
+        _bounded_values({"alpha": alpha, "beta": beta})
         _bounded_radicals(list(alpha) + list(beta), "beta")
-        return _bounded_range(ms.multistep(alpha, beta, label="custom multistep (alpha, beta)"),
-                              "alpha", "beta")
+        return ms.multistep(alpha, beta, label="custom multistep (alpha, beta)")
     if "tableau" in keys:
         from .schemes.butcher import ButcherTableau
         tab = ButcherTableau.from_json(spec["tableau"], field="tableau")
         entries = list(tab.A) + list(tab.b) + list(tab.c) + list(tab.b_embedded or ())
-        _bounded_values(entries, "tableau")
+        _bounded_values({"tableau": entries})
         _bounded_radicals(entries, "tableau")
         return _bounded_range(one_step.from_tableau(tab, name="custom",
                                                     label="custom Runge-Kutta tableau"), "tableau")
     if "stability" in keys:
         num, den = polytext.parse_rational_function(str(spec["stability"]), "stability", "z")
-        _bounded_values(list(num) + list(den), "stability")
+        _bounded_values({"stability": list(num) + list(den)})
         _bounded_radicals(list(num) + list(den), "stability")
         P = sum(c * Z**i for i, c in enumerate(num))
         Q = sum(c * Z**i for i, c in enumerate(den))

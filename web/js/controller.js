@@ -7,11 +7,10 @@ import { specOf } from './scheme-spec.js';
 import { fitAspect, pointsBox, unionBox } from './traces.js';
 import { encodeShared, HASH_PREFIX, LINK_LIMIT, toShared } from './share-state.js';
 
-export const TYPE_DEBOUNCE_MS = 150;
-// The region of a scheme being typed. 50 ms was tried (2026-12-02): about 80 ms faster per
+// 50 ms was tried for the region of a scheme being typed (2026-12-02): about 80 ms faster per
 // edit, but the timing test then failed once in a fresh-clone CI run (no timing recorded in
 // 30 s, cause not found), so the measured, stable 150 ms stays until that is understood.
-export const REGION_DEBOUNCE_MS = TYPE_DEBOUNCE_MS;
+export const TYPE_DEBOUNCE_MS = 150;
 const VIEW_DEBOUNCE_MS = 220;
 const DESCRIBE_DELAY_MS = 350;
 const SHARE_DEBOUNCE_MS = 350;
@@ -100,7 +99,7 @@ export function createController(store) {
   }
 
   // Region first (fast, redrawn while typing), then the slower properties of the scheme.
-  function analyseSlot(slot, delay = REGION_DEBOUNCE_MS) {
+  function analyseSlot(slot, delay = TYPE_DEBOUNCE_MS) {
     const k = SLOT_KEYS[slot];
     clearTimeout(channel(`describe-${slot}`).timer);
     return schedule(`analyse-${slot}`, delay, async (signal, current) => {
