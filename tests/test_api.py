@@ -7,12 +7,10 @@ from __future__ import annotations
 
 import io
 import json
-import math
 import multiprocessing
 import subprocess
 import sys
 import time
-from pathlib import Path
 
 import numpy as np
 import pytest

@@ -5,14 +5,12 @@ subprocess, and RK4's stability function evaluated in mpmath at 40 digits in thi
 """
 from __future__ import annotations
 
-import json
-import subprocess
-import sys
 
 import mpmath
 import pytest
 from fastapi.testclient import TestClient
 
+import cli_runs
 from stepfence.api.main import create_app
 from stepfence.api.settings import Settings
 
@@ -31,18 +29,11 @@ def cli(tmp_path_factory):
     """`stepfence accuracy rk4 ... --json` per step and per unit time, each in its own process."""
     path = tmp_path_factory.mktemp("acc") / "eigs.txt"
     path.write_text(EIGS)
-    base = [sys.executable, "-m", "stepfence", "accuracy", "rk4", "--eigs", str(path), "--json"]
-    runs = {
+    base = ["accuracy", "rk4", "--eigs", str(path)]
+    return cli_runs.run({
         "step": base + ["--tol", "1e-6", "--per", "step", "--step", "0.01", "--compare", "bdf4"],
         "unit-time": base + ["--tol", "1e-4", "--per", "unit-time"],
-    }
-    procs = {k: subprocess.Popen(a, stdout=subprocess.PIPE, text=True) for k, a in runs.items()}
-    out = {}
-    for k, p in procs.items():
-        text, _ = p.communicate(timeout=120)
-        assert p.returncode == 0, k
-        out[k] = json.loads(text)
-    return out
+    })
 
 
 def _error(r, status):

@@ -7,13 +7,13 @@ artifacts/screenshots/ (gitignored).
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 import time
 from pathlib import Path
 from urllib.parse import urlparse
 
 import pytest
+
+import cli_runs
 
 pytestmark = pytest.mark.browser
 
@@ -37,14 +37,7 @@ def cli(tmp_path_factory):
         "describe rk4": ["describe", "rk4"],
         "describe R": ["describe", "--stability", RK4_POLY],
     }
-    procs = {k: subprocess.Popen([sys.executable, "-m", "stepfence", *a, "--json"], stdout=subprocess.PIPE, text=True)
-             for k, a in calls.items()}
-    out = {}
-    for k, p in procs.items():
-        text, _ = p.communicate(timeout=180)
-        assert p.returncode == 0, k
-        out[k] = json.loads(text)
-    return out
+    return cli_runs.run(calls)
 
 
 @pytest.fixture(scope="module")
@@ -135,6 +128,13 @@ def _figure(page):
 def _set_spectrum_text(page, text):
     page.click(".spectrum-panel .tabs__tab[data-mode=text]")
     page.fill(".spectrum-panel [data-field=text]", text)
+
+
+def _type_rho_sigma(page, rho, sigma):
+    """Switch scheme A's editor to rho/sigma and type both polynomials."""
+    page.click(".scheme-editor--a [data-mode=rhosigma]")
+    page.fill(".scheme-editor--a [data-field=rho]", rho)
+    page.fill(".scheme-editor--a [data-field=sigma]", sigma)
 
 
 def _pick(page, slot, name):
@@ -298,9 +298,7 @@ def test_saved_configuration_loads(ctx, live_server, tmp_path):
     context, watch = ctx
     page = _open(context, watch, live_server + "/")
     _settled(page)
-    page.click(".scheme-editor--a [data-mode=rhosigma]")
-    page.fill(".scheme-editor--a [data-field=rho]", "z^2 - z")
-    page.fill(".scheme-editor--a [data-field=sigma]", "3/2 z - 1/2")
+    _type_rho_sigma(page, "z^2 - z", "3/2 z - 1/2")
     page.fill("[data-field=h]", "0.0125")
     _wait_idle(page, 900)
     with page.expect_download() as dl:
@@ -381,9 +379,7 @@ def test_malformed_polynomial_keeps_the_text(ctx, live_server):
     context, watch = ctx
     page = _open(context, watch, live_server + "/")
     _settled(page)
-    page.click(".scheme-editor--a [data-mode=rhosigma]")
-    page.fill(".scheme-editor--a [data-field=rho]", "z^2 - z")
-    page.fill(".scheme-editor--a [data-field=sigma]", "3/2 z - 1/2 +")
+    _type_rho_sigma(page, "z^2 - z", "3/2 z - 1/2 +")
     box = page.locator(".scheme-editor--a [data-error-for=sigma]")
     box.wait_for(state="visible")
     # the rho edit alone (old sigma, higher degree) may be answered first under load: wait

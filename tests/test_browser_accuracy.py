@@ -6,50 +6,19 @@ its own process) on the eigenvalues the page analysed. Screenshot: artifacts/scr
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 from pathlib import Path
-from urllib.parse import urlparse
 
 import pytest
 
+import cli_runs
+
+# the page fixtures, the loopback request watch and the demo's pasted spectrum are
+# test_browser's: one definition of "no request leaves 127.0.0.1" for every page test
+from test_browser import PASTED, SHOTS, Watch, _open, ctx  # noqa: F401 (ctx is a fixture)
+
 pytestmark = pytest.mark.browser
 
-ROOT = Path(__file__).resolve().parents[1]
-SHOTS = ROOT / "artifacts" / "screenshots"
-TIMEOUT_MS = 30_000
-PASTED = "-1\n-2+3i\n-0.1+5i\n-0.1-5i\n-40\n"
 CELL = ".accuracy-panel tr[data-row={row}] td[data-slot={slot}]"
-
-
-@pytest.fixture
-def ctx(browser):
-    # bypass_csp: wait_for_function evaluates strings, which the page's CSP refuses; requests
-    # leaving loopback are blocked and recorded instead
-    context = browser.new_context(viewport={"width": 1440, "height": 1000}, bypass_csp=True)
-    outside, errors = [], []
-
-    def route(r):
-        url = r.request.url
-        if url.startswith(("data:", "blob:")) or urlparse(url).hostname == "127.0.0.1":
-            r.continue_()
-        else:
-            outside.append(url)
-            r.abort()
-
-    context.route("**/*", route)
-    yield context, errors
-    context.close()
-    assert not outside, f"requests left 127.0.0.1: {outside}"
-    assert not errors, f"page errors: {errors}"
-
-
-def _open(context, errors, url):
-    page = context.new_page()
-    page.on("pageerror", lambda e: errors.append(str(e)))
-    page.set_default_timeout(TIMEOUT_MS)
-    page.goto(url)
-    return page
 
 
 def _accuracy_settled(page, **want):
@@ -77,23 +46,13 @@ def _eigs_file(page, path: Path) -> Path:
 
 def _start_cli(path: Path, runs: dict) -> dict:
     """Start `stepfence accuracy SCHEME --eigs path --tol T --per P --json` per entry, at once."""
-    return {k: subprocess.Popen([sys.executable, "-m", "stepfence", "accuracy", scheme, "--eigs", str(path),
-                                  "--tol", repr(tol), "--per", per, "--json"], stdout=subprocess.PIPE, text=True)
-        for k, (scheme, tol, per) in runs.items()}
-
-
-def _collect(procs: dict) -> dict:
-    out = {}
-    for k, p in procs.items():
-        text, _ = p.communicate(timeout=120)
-        assert p.returncode == 0, k
-        out[k] = json.loads(text)
-    return out
+    return cli_runs.start({k: ["accuracy", scheme, "--eigs", str(path), "--tol", repr(tol), "--per", per]
+                           for k, (scheme, tol, per) in runs.items()})
 
 
 def test_accuracy_on_the_demo_and_a_new_tolerance(ctx, live_server, tmp_path):
-    context, errors = ctx
-    page = _open(context, errors, live_server + "/")
+    context, watch = ctx
+    page = _open(context, watch, live_server + "/")
     _accuracy_settled(page, tol=1e-6, per="step")
     path = _eigs_file(page, tmp_path / "demo.txt")
     runs = {(s, tol): (s, tol, "step") for s in ("bdf4", "rk4") for tol in (1e-6, 1e-3)}
@@ -106,7 +65,7 @@ def test_accuracy_on_the_demo_and_a_new_tolerance(ctx, live_server, tmp_path):
     before = {s: _h_accuracy(page, s) for s in ("a", "b")}
 
     page.fill("[data-field=tol]", "1e-3")
-    cli = _collect(procs)
+    cli = cli_runs.collect(procs)
     _accuracy_settled(page, tol=1e-3, per="step")
     after = {s: _h_accuracy(page, s) for s in ("a", "b")}
     for slot, scheme in (("a", "bdf4"), ("b", "rk4")):
@@ -139,8 +98,8 @@ def test_accuracy_on_the_demo_and_a_new_tolerance(ctx, live_server, tmp_path):
 
 
 def test_accuracy_state_survives_the_share_link(ctx, browser, live_server, tmp_path):
-    context, errors = ctx
-    page = _open(context, errors, live_server + "/")
+    context, watch = ctx
+    page = _open(context, watch, live_server + "/")
     _accuracy_settled(page)
     page.click(".spectrum-panel .tabs__tab[data-mode=text]")
     page.fill(".spectrum-panel [data-field=text]", PASTED)
@@ -152,7 +111,7 @@ def test_accuracy_state_survives_the_share_link(ctx, browser, live_server, tmp_p
     # the marker sits at h * max|Im lambda|; the pasted spectrum's largest |Im| is 5
     x0 = page.evaluate("() => document.querySelector('.accuracy-panel__figure').layout.shapes[0].x0")
     assert x0 == pytest.approx(5 * h, rel=1e-12)
-    cli = _collect(_start_cli(_eigs_file(page, tmp_path / "pasted.txt"), {"rk4": ("rk4", 1e-4, "unit-time")}))
+    cli = cli_runs.collect(_start_cli(_eigs_file(page, tmp_path / "pasted.txt"), {"rk4": ("rk4", 1e-4, "unit-time")}))
     assert _h_accuracy(page, "b") == pytest.approx(cli["rk4"]["accuracy_limit"]["h_max"], rel=1e-12)
     want = {s: page.get_attribute(CELL.format(row="h-accuracy", slot=s), "data-value") for s in ("a", "b")}
     page.wait_for_timeout(600)   # the address bar follows after its debounce
@@ -164,7 +123,8 @@ def test_accuracy_state_survives_the_share_link(ctx, browser, live_server, tmp_p
 
     fresh = browser.new_context(viewport={"width": 1440, "height": 1000}, bypass_csp=True)
     try:
-        p2 = _open(fresh, errors, link)
+        watch2 = Watch(fresh)
+        p2 = _open(fresh, watch2, link)
         _accuracy_settled(p2, tol=1e-4, per="unit-time")
         assert p2.input_value("[data-field=tol]") == "1e-4"
         assert "is-active" in p2.get_attribute(".accuracy-panel [data-per=unit-time]", "class")
@@ -187,3 +147,4 @@ def test_accuracy_state_survives_the_share_link(ctx, browser, live_server, tmp_p
         assert old["dt"] == 1e-6 and old["dp"] == "step" and old["bad"] == 2
     finally:
         fresh.close()
+    assert not watch2.outside and not watch2.errors

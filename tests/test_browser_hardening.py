@@ -11,7 +11,7 @@ import json
 
 import pytest
 
-from test_browser import _open, _set_spectrum_text, _settled, _shot, ctx  # noqa: F401 (fixture)
+from test_browser import _open, _set_spectrum_text, _settled, _shot, _type_rho_sigma, ctx  # noqa: F401 (fixture)
 
 pytestmark = pytest.mark.browser
 
@@ -36,9 +36,7 @@ def test_a_server_error_never_clears_the_editors(ctx, live_server, fault):  # no
     page = _open(context, watch, live_server + "/")
     _settled(page)
     # type into every kind of editor the page has: rho/sigma, spectrum text, step
-    page.click(".scheme-editor--a [data-mode=rhosigma]")
-    page.fill(".scheme-editor--a [data-field=rho]", "z^2 - z")
-    page.fill(".scheme-editor--a [data-field=sigma]", "3/2 z - 1/2")
+    _type_rho_sigma(page, "z^2 - z", "3/2 z - 1/2")
     _set_spectrum_text(page, "-1\n-2+3i\n-40")
     page.fill("[data-field=h]", "0.02")
     _settled(page)

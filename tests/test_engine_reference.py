@@ -10,12 +10,11 @@ import numpy as np
 import pytest
 import sympy as sp
 
-from stepfence.analysis.accuracy import accuracy, multistep_accuracy
+from stepfence.analysis.accuracy import accuracy
 from stepfence.analysis.rays import ray_windows
 from stepfence.analysis.region import region_metrics
 from stepfence.analysis.roots import root_condition
 from stepfence.schemes.catalogue import get_scheme
-from stepfence.schemes.stability import ZETA, Z
 
 
 # --- exact coefficients -----------------------------------------------------------------------

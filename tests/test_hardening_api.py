@@ -8,7 +8,6 @@ bound. The command line gets the same inputs: exit code 2 and one line naming th
 from __future__ import annotations
 
 import io
-import os
 import subprocess
 import sys
 import tempfile
